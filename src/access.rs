@@ -1,0 +1,1 @@
+//! access (in progress).

@@ -1,0 +1,1 @@
+//! answers (in progress).

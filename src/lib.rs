@@ -1,0 +1,39 @@
+//! plumbline checks a log of answers from a document-answering assistant against a local
+//! document store.
+//!
+//! For every answer it resolves each citation, splits the answer into sentences, scores
+//! each sentence's lexical support against the cited passage, and records the findings
+//! (unsupported claims, dead or broken citations, entitlement breaches) that a release gate
+//! and a human reviewer act on. It is offline and deterministic.
+//!
+//! The crate is layered bottom-up; every module only uses the ones listed before it:
+//!
+//! * [`text`] — normalisation, tokens with byte offsets, figures, sentences;
+//! * [`metrics`] — ROUGE, BLEU, Levenshtein, Jaro-Winkler, fuzzy token matching;
+//! * [`config`], [`findings`] — plain data: settings and results;
+//! * [`store`], [`answers`] — the inputs, read and validated once;
+//! * [`citations`], [`access`], [`support`] — the per-answer checks;
+//! * [`check`] — runs them over one answer and over a whole log;
+//! * [`report`] — writers that only read findings;
+//! * [`cli`] — one module per subcommand.
+//!
+//! ```
+//! use plumbline::metrics::rouge;
+//! let cand = ["police", "killed", "the", "gunman"];
+//! let refr = ["police", "kill", "the", "gunman"];
+//! let l = rouge::rouge_l(&cand, &refr);
+//! assert!((l.f - 0.75).abs() < 1e-12);
+//! ```
+
+pub mod text;
+pub mod metrics;
+pub mod config;
+pub mod findings;
+pub mod store;
+pub mod answers;
+pub mod citations;
+pub mod access;
+pub mod support;
+pub mod check;
+pub mod report;
+pub mod cli;

@@ -1,0 +1,1 @@
+//! Metrics: ROUGE, BLEU, fuzzy string similarity.

@@ -1,0 +1,1 @@
+//! Text engine: normalisation, tokens, figures, sentences.
