@@ -1,0 +1,79 @@
+//! `plumbline check`: the main job. Reads the store, the answers log and the optional
+//! principals, config and reviewer decisions; checks every answer; writes the findings
+//! document, the HTML report, JUnit XML or SARIF; prints a summary on stderr; and exits
+//! 0 when every answer passes the gate, 1 when something fails it.
+
+use std::path::PathBuf;
+
+use anyhow::Result;
+use clap::Args;
+
+use super::Outcome;
+use crate::run::{self, Outputs, RunInputs, Shard, Verbosity};
+
+/// Arguments of `plumbline check`.
+#[derive(Debug, Args)]
+pub struct CheckArgs {
+    /// The document store: a directory of .txt, .md and .html files (optional manifest.json).
+    #[arg(long, value_name = "DIR")]
+    pub store: PathBuf,
+    /// The answers log (JSON Lines); `-` reads stdin.
+    #[arg(long, value_name = "FILE")]
+    pub answers: PathBuf,
+    /// JSON object mapping each user id to its list of groups.
+    #[arg(long, value_name = "FILE")]
+    pub principals: Option<PathBuf>,
+    /// TOML file with thresholds and gate rules (every key has a default).
+    #[arg(long, value_name = "FILE")]
+    pub config: Option<PathBuf>,
+    /// Write the findings document (JSON); `-` for stdout.
+    #[arg(long, value_name = "FILE")]
+    pub json: Option<PathBuf>,
+    /// Write the self-contained HTML report.
+    #[arg(long, value_name = "FILE")]
+    pub html: Option<PathBuf>,
+    /// Write JUnit XML: one testcase per answer.
+    #[arg(long, value_name = "FILE")]
+    pub junit: Option<PathBuf>,
+    /// Write SARIF 2.1.0: one rule per finding kind.
+    #[arg(long, value_name = "FILE")]
+    pub sarif: Option<PathBuf>,
+    /// Check only the answers whose id hashes to shard K of N (FNV-1a of the id, mod N).
+    #[arg(long, value_name = "K/N")]
+    pub shard: Option<Shard>,
+    /// Reviewer decisions (JSON Lines) that waive named findings.
+    #[arg(long, value_name = "FILE")]
+    pub accept: Option<PathBuf>,
+    /// Leave restricted documents' text out of every output.
+    #[arg(long)]
+    pub redact_restricted: bool,
+    /// No terminal output but errors.
+    #[arg(long, conflicts_with = "progress")]
+    pub quiet: bool,
+    /// Show a progress bar even when stderr is not a terminal.
+    #[arg(long)]
+    pub progress: bool,
+}
+
+/// Runs `plumbline check`.
+pub fn execute(args: &CheckArgs) -> Result<Outcome> {
+    let inputs = RunInputs {
+        store: args.store.clone(),
+        answers: args.answers.clone(),
+        principals: args.principals.clone(),
+        config: args.config.clone(),
+        accept: args.accept.clone(),
+        shard: args.shard,
+        redact_restricted: args.redact_restricted,
+        command: std::env::args().collect(),
+    };
+    let outputs = Outputs { json: args.json.clone(), html: args.html.clone(), junit: args.junit.clone(), sarif: args.sarif.clone() };
+    let verbosity = if args.quiet {
+        Verbosity::Quiet
+    } else if args.progress {
+        Verbosity::Progress
+    } else {
+        Verbosity::Normal
+    };
+    run::check(&inputs, &outputs, verbosity)
+}
