@@ -31,6 +31,7 @@ pub mod config;
 pub mod findings;
 pub mod store;
 pub mod answers;
+pub mod decisions;
 pub mod citations;
 pub mod access;
 pub mod support;
