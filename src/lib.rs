@@ -25,15 +25,17 @@
 //! assert!((l.f - 0.75).abs() < 1e-12);
 //! ```
 
-pub mod access;
-pub mod answers;
-pub mod check;
-pub mod citations;
-pub mod cli;
+pub mod text;
+pub mod metrics;
 pub mod config;
 pub mod findings;
-pub mod metrics;
-pub mod report;
 pub mod store;
+pub mod answers;
+pub mod decisions;
+pub mod citations;
+pub mod access;
 pub mod support;
-pub mod text;
+pub mod check;
+pub mod run;
+pub mod report;
+pub mod cli;

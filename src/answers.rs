@@ -1,1 +1,0 @@
-//! answers (in progress).
