@@ -1,1 +1,553 @@
-//! run (in progress).
+//! One whole run of `plumbline check`: inputs read and validated once, every answer
+//! checked in parallel behind a panic boundary, the summary and gate decided, outputs
+//! written.
+//!
+//! Data flows one way: [`check`] loads the config, the store (and builds its index), the
+//! principals and the reviewer decisions; streams the answers log in batches (so memory
+//! for reading does not grow with the log); hands each batch to [`crate::check`] on the
+//! rayon pool; and collects results in input order. The writers in [`crate::report`]
+//! only read the finished [`Report`].
+//!
+//! Sharding (`--shard K/N`): an answer belongs to shard K (1-based) of N when the
+//! FNV-1a 64-bit hash of its id's UTF-8 bytes, modulo N, equals K − 1. Lines that
+//! cannot be read as answers have no trustworthy id; they are reported by shard 1 only,
+//! so that merged shards count each once.
+
+use std::collections::BTreeMap;
+use std::fs::File;
+use std::io::{self, BufRead, BufReader, IsTerminal, Read, Write};
+use std::panic::{AssertUnwindSafe, catch_unwind};
+use std::path::{Path, PathBuf};
+use std::str::FromStr;
+use std::time::{Duration, Instant, SystemTime, UNIX_EPOCH};
+
+use anyhow::{Context as _, Result};
+use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
+use rayon::prelude::*;
+use sha2::{Digest, Sha256};
+
+use crate::access::{self, Principals};
+use crate::answers::{AnswerReader, ReaderLimits};
+use crate::check::{Checked, Context, check_answer};
+use crate::cli::{Outcome, UsageError};
+use crate::config::Config;
+use crate::decisions::{self, Decision};
+use crate::findings::{
+    AnswerFindings, DecisionRecord, Decisions, Flag, GateResult, InputFile, Inputs, RejectedLine, Report,
+    StoreProblemRecord, StoreRecord, Summary, Tool, Verdict, round6,
+};
+use crate::report;
+use crate::store::index::{Index, term_hash};
+use crate::store::{Store, StoreLimits};
+
+/// `--shard K/N`.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Shard {
+    /// This shard, 1-based.
+    pub k: u64,
+    /// Number of shards.
+    pub n: u64,
+}
+
+impl FromStr for Shard {
+    type Err = String;
+    fn from_str(s: &str) -> Result<Shard, String> {
+        let (k, n) = s.split_once('/').ok_or_else(|| format!("expected K/N, found {s:?}"))?;
+        let k: u64 = k.trim().parse().map_err(|_| format!("shard K must be a whole number, found {k:?}"))?;
+        let n: u64 = n.trim().parse().map_err(|_| format!("shard N must be a whole number, found {n:?}"))?;
+        if n == 0 || k == 0 || k > n {
+            return Err(format!("shard must satisfy 1 ≤ K ≤ N, found {k}/{n}"));
+        }
+        Ok(Shard { k, n })
+    }
+}
+
+impl Shard {
+    /// Whether the answer with this id belongs to the shard.
+    pub fn owns(&self, id: &str) -> bool {
+        term_hash(id) % self.n == self.k - 1
+    }
+}
+
+/// The input paths and switches of a run.
+#[derive(Debug, Clone)]
+pub struct RunInputs {
+    /// Store directory.
+    pub store: PathBuf,
+    /// Answers log (`-` for stdin).
+    pub answers: PathBuf,
+    /// Principals file.
+    pub principals: Option<PathBuf>,
+    /// Config file.
+    pub config: Option<PathBuf>,
+    /// Reviewer decisions.
+    pub accept: Option<PathBuf>,
+    /// Shard to check.
+    pub shard: Option<Shard>,
+    /// Withhold restricted text.
+    pub redact_restricted: bool,
+    /// The command line, for the run record.
+    pub command: Vec<String>,
+}
+
+/// Where outputs go.
+#[derive(Debug, Clone, Default)]
+pub struct Outputs {
+    /// Findings JSON.
+    pub json: Option<PathBuf>,
+    /// HTML report.
+    pub html: Option<PathBuf>,
+    /// JUnit XML.
+    pub junit: Option<PathBuf>,
+    /// SARIF.
+    pub sarif: Option<PathBuf>,
+}
+
+/// How much to print on stderr.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Verbosity {
+    /// Errors only.
+    Quiet,
+    /// Summary; a progress bar when stderr is a terminal.
+    Normal,
+    /// Summary and a progress bar even when stderr is not a terminal.
+    Progress,
+}
+
+/// A reader that hashes and counts what passes through it.
+struct Hashing<R> {
+    inner: R,
+    hasher: Sha256,
+    bytes: u64,
+}
+
+impl<R: Read> Read for Hashing<R> {
+    fn read(&mut self, buf: &mut [u8]) -> io::Result<usize> {
+        let n = self.inner.read(buf)?;
+        self.hasher.update(&buf[..n]);
+        self.bytes += n as u64;
+        Ok(n)
+    }
+}
+
+/// Size and SHA-256 of a file, for the run record.
+pub fn file_record(path: &Path) -> Result<InputFile> {
+    let mut f = File::open(path).map_err(|e| UsageError(format!("cannot read {}: {e}", path.display())))?;
+    let mut hasher = Sha256::new();
+    let size = io::copy(&mut f, &mut hasher).with_context(|| format!("reading {}", path.display()))?;
+    Ok(InputFile { path: path.display().to_string(), size, sha256: hex(&hasher.finalize()) })
+}
+
+/// Lower-case hex.
+pub fn hex(bytes: &[u8]) -> String {
+    bytes.iter().map(|b| format!("{b:02x}")).collect()
+}
+
+/// The current UTC time as RFC 3339 (seconds), from the system clock.
+pub fn utc_now() -> String {
+    let secs = SystemTime::now().duration_since(UNIX_EPOCH).map_or(0, |d| d.as_secs());
+    rfc3339(secs)
+}
+
+/// Formats seconds since the Unix epoch as `YYYY-MM-DDTHH:MM:SSZ` (civil-from-days,
+/// proleptic Gregorian calendar).
+pub fn rfc3339(secs: u64) -> String {
+    let days = (secs / 86_400) as i64;
+    let rem = secs % 86_400;
+    let z = days + 719_468;
+    let era = z.div_euclid(146_097);
+    let doe = z.rem_euclid(146_097);
+    let yoe = (doe - doe / 1_460 + doe / 36_524 - doe / 146_096) / 365;
+    let doy = doe - (365 * yoe + yoe / 4 - yoe / 100);
+    let mp = (5 * doy + 2) / 153;
+    let d = doy - (153 * mp + 2) / 5 + 1;
+    let m = if mp < 10 { mp + 3 } else { mp - 9 };
+    let y = yoe + era * 400 + i64::from(m <= 2);
+    format!("{y:04}-{m:02}-{d:02}T{:02}:{:02}:{:02}Z", rem / 3600, rem % 3600 / 60, rem % 60)
+}
+
+fn panic_message(payload: &(dyn std::any::Any + Send)) -> String {
+    payload
+        .downcast_ref::<&str>()
+        .map(|s| (*s).to_owned())
+        .or_else(|| payload.downcast_ref::<String>().cloned())
+        .unwrap_or_else(|| "unknown cause".into())
+}
+
+/// Everything loaded before the answers are read.
+pub struct Loaded {
+    /// Settings.
+    pub config: Config,
+    /// The store.
+    pub store: Store,
+    /// Its index.
+    pub index: Index,
+    /// Principals.
+    pub principals: Option<Principals>,
+    /// Decisions and the lines that could not be read.
+    pub decisions: (Vec<Decision>, Vec<crate::answers::Rejected>),
+    /// Seconds spent loading the store and building the index.
+    pub store_seconds: f64,
+}
+
+/// Loads config, store, index, principals and decisions; any failure is a usage error.
+pub fn load(inputs: &RunInputs) -> Result<Loaded> {
+    let config = match &inputs.config {
+        Some(path) => Config::load(path).map_err(|e| UsageError(e.to_string()))?,
+        None => Config::default(),
+    };
+    let t0 = Instant::now();
+    let limits = StoreLimits::from(&config.limits);
+    let store = Store::load(&inputs.store, &limits).map_err(|e| UsageError(e.to_string()))?;
+    let texts: Vec<&str> = store.documents.iter().map(|d| d.visible_text()).collect();
+    let index = Index::build(&texts);
+    let store_seconds = t0.elapsed().as_secs_f64();
+    let principals = match &inputs.principals {
+        Some(p) => Some(access::load_principals(p).map_err(|e| UsageError(e.to_string()))?),
+        None => None,
+    };
+    let decisions = match &inputs.accept {
+        Some(p) => decisions::load_decisions(p).map_err(|e| UsageError(e.to_string()))?,
+        None => (Vec::new(), Vec::new()),
+    };
+    Ok(Loaded { config, store, index, principals, decisions, store_seconds })
+}
+
+/// Counts, gate and the rest of the summary from the checked answers.
+pub fn summarise(config: &Config, answers: &[AnswerFindings], rejected: &[RejectedLine], lines_read: usize) -> Summary {
+    let mut s = Summary { lines_read, answers_checked: answers.len(), lines_rejected: rejected.len(), ..Summary::default() };
+    for v in Verdict::ALL {
+        s.verdicts.insert(v.as_str().into(), 0);
+    }
+    for f in Flag::ALL {
+        s.flags.insert(f.as_str().into(), 0);
+    }
+    for st in crate::findings::CitationStatus::ALL {
+        s.citations.insert(st.as_str().into(), 0);
+    }
+    let (mut rl, mut bl, mut napproved) = (0.0, 0.0, 0usize);
+    for a in answers {
+        if a.passed {
+            s.answers_passed += 1;
+        } else {
+            s.answers_failed += 1;
+        }
+        for sent in &a.sentences {
+            *s.verdicts.entry(sent.verdict.as_str().into()).or_default() += 1;
+            for f in &sent.flags {
+                *s.flags.entry(f.as_str().into()).or_default() += 1;
+            }
+        }
+        for c in &a.citations {
+            *s.citations.entry(c.status.as_str().into()).or_default() += 1;
+        }
+        for f in &a.findings {
+            match f.severity {
+                crate::findings::Severity::Error => s.errors += 1,
+                crate::findings::Severity::Warning => s.warnings += 1,
+            }
+            if f.accepted.is_some() {
+                s.accepted += 1;
+            }
+            if f.gate {
+                s.gate_failures += 1;
+            }
+            if f.kind == "forbidden" || f.kind == "restricted_match" {
+                s.entitlement_breaches += 1;
+            }
+        }
+        if let Some(ap) = &a.approved {
+            rl += ap.rouge_l;
+            bl += ap.bleu;
+            napproved += 1;
+        }
+    }
+    if napproved > 0 {
+        s.approved_mean_rouge_l = Some(round6(rl / napproved as f64));
+        s.approved_mean_bleu = Some(round6(bl / napproved as f64));
+    }
+    let mut reasons = Vec::new();
+    if s.answers_failed > 0 {
+        let mut kinds: BTreeMap<&str, usize> = BTreeMap::new();
+        for f in answers.iter().flat_map(|a| a.findings.iter()).filter(|f| f.gate) {
+            *kinds.entry(f.kind.as_str()).or_default() += 1;
+        }
+        let list: Vec<String> = kinds.iter().map(|(k, n)| format!("{k} ×{n}")).collect();
+        reasons.push(format!(
+            "{} of {} answers fail the gate (fail_on = [{}], max_unsupported = {}): {}",
+            s.answers_failed,
+            s.answers_checked,
+            config.gate.fail_on.join(", "),
+            config.gate.max_unsupported,
+            list.join(", ")
+        ));
+    }
+    if !rejected.is_empty() && !config.gate.allow_rejected_lines {
+        reasons.push(format!("{} line(s) of the answers file could not be read (allow_rejected_lines = false)", rejected.len()));
+    }
+    s.gate = GateResult { passed: reasons.is_empty(), reasons };
+    s
+}
+
+/// Runs `plumbline check` end to end.
+pub fn check(inputs: &RunInputs, outputs: &Outputs, verbosity: Verbosity) -> Result<Outcome> {
+    let started = Instant::now();
+    let loaded = load(inputs)?;
+    let ctx = Context {
+        store: &loaded.store,
+        index: &loaded.index,
+        config: &loaded.config,
+        principals: loaded.principals.as_ref(),
+        decisions: &loaded.decisions.0,
+        redact_restricted: inputs.redact_restricted,
+    };
+    let (report, used) = check_answers(inputs, &ctx, &loaded, verbosity)?;
+    let _ = used;
+    write_outputs(&report, outputs)?;
+    if verbosity != Verbosity::Quiet {
+        print_summary(&report, outputs, loaded.store_seconds, started.elapsed());
+    }
+    Ok(if report.summary.gate.passed { Outcome::Pass } else { Outcome::GateFailed })
+}
+
+/// Reads the answers log and checks every answer; builds the findings document.
+pub fn check_answers(inputs: &RunInputs, ctx: &Context<'_>, loaded: &Loaded, verbosity: Verbosity) -> Result<(Report, Vec<bool>)> {
+    let from_stdin = inputs.answers.as_os_str() == "-";
+    let source: Box<dyn Read> = if from_stdin {
+        Box::new(io::stdin().lock())
+    } else {
+        Box::new(File::open(&inputs.answers).map_err(|e| UsageError(format!("cannot read {}: {e}", inputs.answers.display())))?)
+    };
+    let total_lines = if from_stdin { None } else { count_lines(&inputs.answers).ok() };
+    let mut hashing = Hashing { inner: source, hasher: Sha256::new(), bytes: 0 };
+    let limits = ReaderLimits::from(&loaded.config.limits);
+    let progress = progress_bar(verbosity, total_lines);
+
+    let mut answers: Vec<AnswerFindings> = Vec::new();
+    let mut rejected: Vec<RejectedLine> = Vec::new();
+    let mut used = vec![false; ctx.decisions.len()];
+    let mut other_shards = 0usize;
+    let reports_rejected = inputs.shard.is_none_or(|s| s.k == 1);
+    let lines_read;
+    {
+        let mut reader = AnswerReader::with_limits(BufReader::with_capacity(1 << 16, &mut hashing), limits);
+        const BATCH: usize = 1024;
+        loop {
+            let batch: Vec<_> = reader.by_ref().take(BATCH).collect();
+            if batch.is_empty() {
+                break;
+            }
+            let mut todo = Vec::with_capacity(batch.len());
+            for item in batch {
+                match item {
+                    Ok(a) if inputs.shard.is_none_or(|s| s.owns(&a.id)) => todo.push(a),
+                    Ok(_) => other_shards += 1,
+                    Err(r) if reports_rejected => rejected.push(RejectedLine { line: r.line, error: r.error }),
+                    Err(_) => other_shards += 1,
+                }
+            }
+            let results: Vec<Result<Checked, RejectedLine>> = todo
+                .par_iter()
+                .map(|a| {
+                    catch_unwind(AssertUnwindSafe(|| check_answer(ctx, a))).map_err(|p| RejectedLine {
+                        line: a.line,
+                        error: format!("answer {}: internal error while checking: {}", a.id, panic_message(p.as_ref())),
+                    })
+                })
+                .collect();
+            let n = results.len() as u64;
+            for r in results {
+                match r {
+                    Ok(c) => {
+                        for i in c.used_decisions {
+                            used[i] = true;
+                        }
+                        answers.push(c.findings);
+                    }
+                    Err(rej) => rejected.push(rej),
+                }
+            }
+            progress.inc(n);
+        }
+        if let Some(e) = reader.take_io_error() {
+            return Err(UsageError(format!("cannot read {}: {e}", inputs.answers.display())).into());
+        }
+        lines_read = reader.non_blank_lines() - other_shards;
+    }
+    progress.finish_and_clear();
+    rejected.sort_by_key(|r| r.line);
+
+    let answers_record = InputFile {
+        path: inputs.answers.display().to_string(),
+        size: hashing.bytes,
+        sha256: hex(&hashing.hasher.finalize()),
+    };
+    let opt_record = |p: &Option<PathBuf>| p.as_deref().map(file_record).transpose();
+    let summary = summarise(&loaded.config, &answers, &rejected, lines_read);
+    let stale: Vec<DecisionRecord> = ctx
+        .decisions
+        .iter()
+        .zip(&used)
+        .filter(|(_, u)| !**u)
+        .map(|(d, _)| DecisionRecord {
+            answer: d.answer.clone(),
+            sentence: d.sentence,
+            r#ref: d.r#ref.clone(),
+            finding: d.finding.clone(),
+            by: d.by.clone(),
+            note: d.note.clone(),
+        })
+        .collect();
+    let report = Report {
+        tool: Tool::default(),
+        generated_at: utc_now(),
+        command: inputs.command.clone(),
+        inputs: Inputs {
+            answers: answers_record,
+            principals: opt_record(&inputs.principals)?,
+            config: opt_record(&inputs.config)?,
+            accept: opt_record(&inputs.accept)?,
+            store: StoreRecord {
+                path: inputs.store.display().to_string(),
+                documents: loaded.store.documents.len(),
+                digest: loaded.store.digest.clone(),
+                problems: loaded
+                    .store
+                    .problems
+                    .iter()
+                    .map(|p| StoreProblemRecord { path: p.path.clone(), field: p.field.clone(), message: p.message.clone() })
+                    .collect(),
+            },
+        },
+        config: serde_json::to_value(&loaded.config)?,
+        summary,
+        answers,
+        rejected,
+        decisions: Decisions {
+            applied: used.iter().filter(|u| **u).count(),
+            stale,
+            rejected: loaded.decisions.1.iter().map(|r| RejectedLine { line: r.line, error: r.error.clone() }).collect(),
+        },
+    };
+    Ok((report, used))
+}
+
+fn count_lines(path: &Path) -> io::Result<u64> {
+    let mut r = BufReader::with_capacity(1 << 16, File::open(path)?);
+    let mut n = 0u64;
+    loop {
+        let buf = r.fill_buf()?;
+        if buf.is_empty() {
+            break;
+        }
+        n += buf.iter().filter(|&&b| b == b'\n').count() as u64;
+        let len = buf.len();
+        r.consume(len);
+    }
+    Ok(n.max(1))
+}
+
+fn progress_bar(verbosity: Verbosity, total: Option<u64>) -> ProgressBar {
+    let target = match verbosity {
+        Verbosity::Quiet => return ProgressBar::hidden(),
+        Verbosity::Progress => ProgressDrawTarget::term(console::Term::stderr(), 10),
+        Verbosity::Normal if io::stderr().is_terminal() => ProgressDrawTarget::stderr(),
+        Verbosity::Normal => return ProgressBar::hidden(),
+    };
+    let bar = ProgressBar::with_draw_target(total, target);
+    let style = ProgressStyle::with_template("checking {bar:30} {pos}/{len} answers ({per_sec}, {eta} left)")
+        .unwrap_or_else(|_| ProgressStyle::default_bar());
+    bar.set_style(style);
+    // Shown only on runs long enough to need it.
+    bar.enable_steady_tick(Duration::from_millis(250));
+    bar
+}
+
+/// Writes every requested output.
+pub fn write_outputs(report: &Report, outputs: &Outputs) -> Result<()> {
+    if let Some(path) = &outputs.json {
+        let bytes = report::json::to_bytes(report)?;
+        report::write_atomic(path, &bytes).with_context(|| format!("writing {}", path.display()))?;
+    }
+    if let Some(path) = &outputs.html {
+        let bytes = report::html::render(report)?;
+        report::write_atomic(path, bytes.as_bytes()).with_context(|| format!("writing {}", path.display()))?;
+    }
+    if let Some(path) = &outputs.junit {
+        let bytes = report::junit::render(report);
+        report::write_atomic(path, bytes.as_bytes()).with_context(|| format!("writing {}", path.display()))?;
+    }
+    if let Some(path) = &outputs.sarif {
+        let bytes = report::sarif::render(report)?;
+        report::write_atomic(path, &bytes).with_context(|| format!("writing {}", path.display()))?;
+    }
+    Ok(())
+}
+
+/// The terminal summary on stderr.
+pub fn print_summary(report: &Report, outputs: &Outputs, store_seconds: f64, elapsed: Duration) {
+    let s = &report.summary;
+    let mut err = io::stderr().lock();
+    let nonzero = |m: &BTreeMap<String, usize>| -> String {
+        let v: Vec<String> = m.iter().filter(|(_, n)| **n > 0).map(|(k, n)| format!("{k} {n}")).collect();
+        if v.is_empty() { "none".into() } else { v.join(", ") }
+    };
+    let _ = writeln!(
+        err,
+        "plumbline: {} answers checked, {} lines rejected ({} non-blank lines read); store {} documents ({store_seconds:.2}s)",
+        s.answers_checked, s.lines_rejected, s.lines_read, report.inputs.store.documents
+    );
+    let _ = writeln!(err, "  sentences: {}", nonzero(&s.verdicts));
+    let _ = writeln!(err, "  flags:     {}", nonzero(&s.flags));
+    let _ = writeln!(err, "  citations: {}", nonzero(&s.citations));
+    let _ = writeln!(
+        err,
+        "  findings:  {} errors, {} warnings, {} accepted by a reviewer; {} entitlement breaches",
+        s.errors, s.warnings, s.accepted, s.entitlement_breaches
+    );
+    if !report.decisions.stale.is_empty() {
+        let _ = writeln!(err, "  reviewer decisions: {} applied, {} stale (match nothing)", report.decisions.applied, report.decisions.stale.len());
+    }
+    if !report.inputs.store.problems.is_empty() {
+        let _ = writeln!(err, "  store: {} entries skipped (see inputs.store.problems)", report.inputs.store.problems.len());
+    }
+    let _ = writeln!(err, "  answers:   {} pass, {} fail", s.answers_passed, s.answers_failed);
+    if s.gate.passed {
+        let _ = writeln!(err, "gate: PASS");
+    } else {
+        let _ = writeln!(err, "gate: FAIL");
+        for r in &s.gate.reasons {
+            let _ = writeln!(err, "  - {r}");
+        }
+    }
+    for (label, path) in [("findings", &outputs.json), ("report", &outputs.html), ("junit", &outputs.junit), ("sarif", &outputs.sarif)] {
+        if let Some(p) = path.as_ref().filter(|p| p.as_os_str() != "-") {
+            let _ = writeln!(err, "  {label}: {}", p.display());
+        }
+    }
+    let _ = writeln!(err, "  took {:.2}s", elapsed.as_secs_f64());
+    let _ = writeln!(err, "A lexical check is evidence for a reviewer, not proof: the reviewer decides.");
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn rfc3339_known_instants() {
+        assert_eq!(rfc3339(0), "1970-01-01T00:00:00Z");
+        // 2000-02-29 (a leap day of a year divisible by 400) at 12:34:56.
+        assert_eq!(rfc3339(951_827_696), "2000-02-29T12:34:56Z");
+        assert_eq!(rfc3339(1_780_000_000), "2026-05-28T20:26:40Z");
+    }
+
+    #[test]
+    fn shard_parsing_and_partition() {
+        assert!("0/3".parse::<Shard>().is_err() && "4/3".parse::<Shard>().is_err() && "x".parse::<Shard>().is_err());
+        let shards: Vec<Shard> = (1..=3).map(|k| Shard { k, n: 3 }).collect();
+        for i in 0..200 {
+            let id = format!("a-{i:04}");
+            assert_eq!(shards.iter().filter(|s| s.owns(&id)).count(), 1);
+        }
+    }
+}
