@@ -1,0 +1,88 @@
+//! The pure UAX #29 sentence layer against Unicode's conformance file.
+//!
+//! Source: Unicode SentenceBreakTest.txt, as shipped by Debian's
+//! `unicode-data` 15.0.0-1 package (tests/data/unicode/SentenceBreakTest.txt,
+//! header line `# SentenceBreakTest-15.0.0.txt`, licence header intact).
+//! The `unicode-segmentation` crate in Cargo.lock (1.13.3) implements
+//! Unicode 17.0.0 (`UNICODE_VERSION`), so the file is two versions older than
+//! the tables.  Rules SB1-SB998 are the same in 15.0 and 17.0; a later
+//! version may give new code points a property, but the 15.0 file only uses
+//! code points assigned by 15.0, so every case is expected to pass.
+
+use std::ops::Range;
+
+use plumbline::text::sentences::uax29;
+
+use crate::common::{Mismatches, read_data};
+
+struct Case {
+    line: usize,
+    text: String,
+    segments: Vec<Range<usize>>,
+    source: String,
+}
+
+/// Parses `÷ 0001 × 0308 ÷ # comment` lines into strings and the byte ranges
+/// between consecutive `÷` marks.
+fn cases() -> Vec<Case> {
+    let data = read_data("unicode/SentenceBreakTest.txt");
+    let mut out = Vec::new();
+    for (i, raw) in data.lines().enumerate() {
+        let body = raw.split('#').next().unwrap().trim();
+        if body.is_empty() {
+            continue;
+        }
+        let mut text = String::new();
+        let mut breaks = Vec::new();
+        for tok in body.split_whitespace() {
+            match tok {
+                "÷" => breaks.push(text.len()),
+                "×" => {}
+                hex => {
+                    let cp = u32::from_str_radix(hex, 16).unwrap_or_else(|e| panic!("line {}: {hex}: {e}", i + 1));
+                    text.push(char::from_u32(cp).unwrap_or_else(|| panic!("line {}: bad scalar {hex}", i + 1)));
+                }
+            }
+        }
+        let segments = breaks.windows(2).map(|w| w[0]..w[1]).collect();
+        out.push(Case { line: i + 1, text, segments, source: body.to_owned() });
+    }
+    out
+}
+
+#[test]
+fn every_sentence_break_test_case_passes() {
+    let cases = cases();
+    // Source: the 15.0.0 file has 502 test lines (counted when vendored).
+    assert_eq!(cases.len(), 502, "unexpected number of cases in SentenceBreakTest.txt");
+    let mut m = Mismatches::default();
+    for c in &cases {
+        let ours = uax29(&c.text);
+        m.check(ours == c.segments, || {
+            format!("line {} [{}] {:?}: ours {:?} theirs {:?}", c.line, c.source, c.text, ours, c.segments)
+        });
+    }
+    m.finish("uax29 vs SentenceBreakTest-15.0.0");
+}
+
+/// The pure layer partitions its input: ranges are contiguous, non-empty,
+/// start at 0 and end at the length (a property of UAX #29 segmentation:
+/// SB1/SB2 put breaks at both ends and every other position is either a
+/// break or not). Checked on every conformance string and some plain text.
+#[test]
+fn uax29_partitions_the_input() {
+    let mut texts: Vec<String> = cases().into_iter().map(|c| c.text).collect();
+    texts.push("One. Two? Three! \"Four.\" Five...\nSix\r\n\u{2029}Seven".to_owned());
+    texts.push("Mr. Quill is here. e.g. this. 3.14 is pi. 文。中文！".to_owned());
+    for t in &texts {
+        let r = uax29(t);
+        let mut pos = 0;
+        for seg in &r {
+            assert_eq!(seg.start, pos, "gap or overlap in {t:?}: {r:?}");
+            assert!(seg.end > seg.start, "empty segment in {t:?}: {r:?}");
+            pos = seg.end;
+        }
+        assert_eq!(pos, t.len(), "does not cover {t:?}: {r:?}");
+    }
+    assert!(uax29("").is_empty(), "empty text must give no segments (SB1/SB2 apply only to non-empty text)");
+}
