@@ -25,15 +25,15 @@
 //! assert!((l.f - 0.75).abs() < 1e-12);
 //! ```
 
-pub mod text;
-pub mod metrics;
+pub mod access;
+pub mod answers;
+pub mod check;
+pub mod citations;
+pub mod cli;
 pub mod config;
 pub mod findings;
-pub mod store;
-pub mod answers;
-pub mod citations;
-pub mod access;
-pub mod support;
-pub mod check;
+pub mod metrics;
 pub mod report;
-pub mod cli;
+pub mod store;
+pub mod support;
+pub mod text;

@@ -1,1 +1,738 @@
-//! support (in progress).
+//! Sentence support: how well a passage carries a claim, and the checks a lexical score
+//! misses.
+//!
+//! A claim (one sentence of an answer, markers removed) is compared with *windows* of
+//! its cited passages: runs of one to `window_sentences` consecutive sentences of the
+//! passage, never the whole document, so that scattered words cannot add up to support.
+//!
+//! # The score
+//!
+//! For a claim with content tokens `C` (figures and non-stop words, stemmed with Snowball
+//! English) and a window `W`:
+//!
+//! * **coverage** — `Σ credit(c) / |C|`, where `credit(c)` is 1 when `c`'s stem occurs in
+//!   `W` (a figure must be carried with the same canonical value), else the best fuzzy
+//!   similarity to a word of `W` when it reaches `fuzzy_threshold` (spelling variants,
+//!   typos), else 0;
+//! * **bigrams** — the share of the claim's adjacent stem pairs (all tokens) that occur
+//!   adjacently in `W`, which rewards kept phrasing and penalises recombined words;
+//! * **order** — ROUGE-L recall of the claim's stems against `W` (LCS / claim length,
+//!   Lin 2004), which rewards words in the same order.
+//!
+//! `score = 0.55·coverage + 0.25·bigrams + 0.20·order`, in 0..1. The best window is the
+//! one with the highest score (a larger window only wins by a margin of 0.01). The
+//! weights are defaults pending calibration on a labelled set; see DEVELOPERS.md.
+//!
+//! # The checks on top
+//!
+//! * `number_mismatch`: every figure of the claim must be carried by a figure of the
+//!   window ([`crate::text::numbers::Figure::is_carried_by`]); one that is not makes the
+//!   claim `unsupported` whatever its word overlap.
+//! * `negation_mismatch`: the claim is aligned with the window by LCS; a negation (`not`,
+//!   `never`, `no`, `n't` …) inside the aligned region of one side without one on the other
+//!   makes the claim `unsupported`.
+//! * `changed_term`: where the alignment has a gap of exactly one content word on each
+//!   side, or any gap pairs a known opposite (minimum/maximum, before/after, all/some,
+//!   enable/disable), and the two words are neither the same stem, nor fuzzy variants,
+//!   nor on the synonym list, the claim is at best `partial`.
+//! * `no_claim`: a sentence with no content words, a greeting or offer of help, a
+//!   question, or a Markdown heading has nothing to check.
+
+use std::collections::{HashMap, HashSet};
+use std::ops::Range;
+use std::sync::LazyLock;
+
+use regex::Regex;
+
+use crate::findings::{ChangedTerm, Verdict};
+use crate::metrics::fuzzy::token_similarity;
+use crate::metrics::rouge::lcs_len;
+use crate::text::tokens::{Token, tokenize};
+
+/// Scoring parameters (the `[thresholds]` and `[support]` config tables).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Params {
+    /// Score at or above which a claim is supported.
+    pub supported: f64,
+    /// Score at or above which (and below `supported`) a claim is partial.
+    pub partial: f64,
+    /// Fuzzy similarity at which a word gets credit for a near match.
+    pub fuzzy_threshold: f64,
+    /// Most consecutive passage sentences in one window.
+    pub window_sentences: usize,
+}
+
+impl Default for Params {
+    fn default() -> Self {
+        Params { supported: 0.75, partial: 0.45, fuzzy_threshold: 0.85, window_sentences: 3 }
+    }
+}
+
+/// Weights of the score (see the module documentation).
+const W_COVERAGE: f64 = 0.55;
+const W_BIGRAM: f64 = 0.25;
+const W_ORDER: f64 = 0.20;
+
+/// One sentence of a passage with its tokens (offsets in the passage's text).
+#[derive(Debug, Clone)]
+pub struct Unit {
+    /// Byte range of the sentence in the text it came from.
+    pub range: Range<usize>,
+    /// Its tokens, offsets in the same text.
+    pub tokens: Vec<Token>,
+}
+
+/// Splits `ranges` of `text` into [`Unit`]s (tokenised sentences).
+pub fn units(text: &str, ranges: &[Range<usize>]) -> Vec<Unit> {
+    ranges
+        .iter()
+        .map(|r| {
+            let mut tokens = tokenize(&text[r.clone()]);
+            for t in &mut tokens {
+                t.start += r.start;
+                t.end += r.start;
+                if let Some(f) = t.figure.as_mut() {
+                    f.start += r.start;
+                    f.end += r.start;
+                }
+            }
+            Unit { range: r.clone(), tokens }
+        })
+        .collect()
+}
+
+/// A claim prepared for scoring.
+#[derive(Debug, Clone)]
+pub struct Claim {
+    /// Tokens of the claim text.
+    pub tokens: Vec<Token>,
+    /// Whether there is nothing to check.
+    pub no_claim: bool,
+}
+
+static CHATTER: LazyLock<Regex> = LazyLock::new(|| {
+    Regex::new(concat!(
+        r"(?i)^\W*(?:(?:hi|hello|hey|greetings|good (?:morning|afternoon|evening))\b",
+        r"|(?:many )?thanks\b|thank you\b|you're welcome\b|sure[.!]?$|of course[.!]?$|certainly[.!]?$",
+        r"|(?:i )?hope (?:this|that) helps|let me know\b|feel free\b|(?:i'm |i am )?(?:happy|glad) to help",
+        r"|is there anything else|if you have (?:any )?(?:other |more |further )?questions",
+        r"|please (?:let me know|reach out|ask)\b|great question)"
+    ))
+    .unwrap_or_else(|e| panic!("chatter pattern: {e}"))
+});
+
+/// Prepares `text` (markers already removed) as a claim.
+pub fn claim(text: &str) -> Claim {
+    let tokens = tokenize(text);
+    let trimmed = text.trim();
+    let heading = trimmed.starts_with('#');
+    let question = trimmed.trim_end_matches(['"', '\'', ')', '*']).ends_with('?');
+    let no_content = !tokens.iter().any(Token::is_content);
+    let no_claim = no_content || heading || question || CHATTER.is_match(trimmed);
+    Claim { tokens, no_claim }
+}
+
+/// Negation cues (after normalisation, apostrophes are ASCII).
+fn is_negation(word: &str) -> bool {
+    matches!(
+        word,
+        "not"
+            | "no"
+            | "never"
+            | "none"
+            | "nothing"
+            | "nobody"
+            | "neither"
+            | "nor"
+            | "without"
+            | "cannot"
+            | "nowhere"
+    ) || word.ends_with("n't")
+}
+
+/// Stop words that still matter for a changed term (quantifiers and relations).
+fn is_term_word(word: &str) -> bool {
+    matches!(
+        word,
+        "all"
+            | "some"
+            | "any"
+            | "none"
+            | "each"
+            | "every"
+            | "few"
+            | "more"
+            | "most"
+            | "less"
+            | "least"
+            | "fewer"
+            | "before"
+            | "after"
+            | "above"
+            | "below"
+            | "over"
+            | "under"
+            | "only"
+            | "both"
+            | "either"
+            | "first"
+            | "last"
+    )
+}
+
+fn is_alignable_content(t: &Token) -> bool {
+    t.figure.is_none() && !is_negation(&t.text) && (!t.stop || is_term_word(&t.text))
+}
+
+/// Pairs of stems that are opposites: a swap is a changed term whatever the gap.
+static OPPOSITES: LazyLock<HashSet<(String, String)>> = LazyLock::new(|| {
+    let pairs = [
+        ("minimum", "maximum"),
+        ("min", "max"),
+        ("before", "after"),
+        ("above", "below"),
+        ("over", "under"),
+        ("more", "less"),
+        ("more", "fewer"),
+        ("most", "least"),
+        ("increase", "decrease"),
+        ("enable", "disable"),
+        ("enabled", "disabled"),
+        ("allow", "deny"),
+        ("allow", "forbid"),
+        ("permit", "prohibit"),
+        ("include", "exclude"),
+        ("always", "never"),
+        ("all", "some"),
+        ("all", "none"),
+        ("every", "some"),
+        ("any", "none"),
+        ("each", "some"),
+        ("first", "last"),
+        ("earliest", "latest"),
+        ("early", "late"),
+        ("open", "close"),
+        ("start", "end"),
+        ("accept", "reject"),
+        ("required", "optional"),
+        ("mandatory", "optional"),
+        ("higher", "lower"),
+        ("highest", "lowest"),
+        ("inside", "outside"),
+        ("internal", "external"),
+        ("public", "private"),
+        ("upper", "lower"),
+        ("add", "remove"),
+        ("grant", "revoke"),
+        ("pass", "fail"),
+        ("true", "false"),
+        ("import", "export"),
+        ("input", "output"),
+        ("encrypt", "decrypt"),
+        ("lock", "unlock"),
+        ("buy", "sell"),
+        ("credit", "debit"),
+        ("daily", "weekly"),
+        ("weekly", "monthly"),
+        ("monthly", "annually"),
+        ("monthly", "yearly"),
+        ("start", "stop"),
+        ("increase", "reduce"),
+        ("approve", "reject"),
+        ("approved", "rejected"),
+        ("valid", "invalid"),
+        ("read", "write"),
+        ("online", "offline"),
+        ("automatic", "manual"),
+        ("automatically", "manually"),
+    ];
+    let mut set = HashSet::new();
+    for (a, b) in pairs {
+        let (a, b) = (crate::text::stem::stem(a), crate::text::stem::stem(b));
+        set.insert((a.clone(), b.clone()));
+        set.insert((b, a));
+    }
+    set
+});
+
+/// Synonyms that may stand for each other without a changed-term flag (stems). A short
+/// list of common paraphrases in policy and support text; extend it as reviews find more.
+static SYNONYMS: LazyLock<HashSet<(String, String)>> = LazyLock::new(|| {
+    let groups: &[&[&str]] = &[
+        &["stay", "remain"],
+        &["begin", "start", "commence"],
+        &["end", "finish", "conclude"],
+        &["buy", "purchase"],
+        &["get", "receive", "obtain"],
+        &["help", "assist", "support"],
+        &["need", "require"],
+        &["must", "shall"],
+        &["allow", "permit", "let"],
+        &["show", "display"],
+        &["use", "utilise", "utilize"],
+        &["big", "large"],
+        &["small", "little"],
+        &["quick", "fast", "rapid"],
+        &["employee", "staff", "worker"],
+        &["customer", "client"],
+        &["choose", "select", "pick"],
+        &["cancel", "terminate"],
+        &["ask", "request"],
+        &["give", "provide"],
+        &["send", "submit"],
+        &["check", "verify"],
+        &["fix", "repair", "resolve"],
+        &["mistake", "error"],
+        &["often", "frequently"],
+        &["maybe", "perhaps"],
+        &["about", "approximately", "around", "roughly", "approx"],
+        &["automatically", "automatic"],
+        &["close", "shut"],
+        &["call", "phone"],
+        &["job", "role", "position"],
+        &["pay", "payment"],
+        &["refund", "reimburse"],
+        &["within", "inside"],
+        &["till", "until"],
+        &["per", "each", "every"],
+    ];
+    let mut set = HashSet::new();
+    for g in groups {
+        for a in *g {
+            for b in *g {
+                if a != b {
+                    set.insert((crate::text::stem::stem(a), crate::text::stem::stem(b)));
+                }
+            }
+        }
+    }
+    set
+});
+
+/// Credit for a word whose listed synonym stands in the window.
+const SYNONYM_CREDIT: f64 = 0.9;
+
+fn is_synonym(a: &str, b: &str) -> bool {
+    SYNONYMS.contains(&(a.to_owned(), b.to_owned()))
+}
+
+/// The best window of a passage for a claim, with everything the checks found in it.
+#[derive(Debug, Clone, PartialEq)]
+pub struct WindowMatch {
+    /// First unit (sentence) of the window.
+    pub first: usize,
+    /// Last unit of the window (inclusive).
+    pub last: usize,
+    /// Support score in 0..1.
+    pub score: f64,
+    /// Coverage component.
+    pub coverage: f64,
+    /// Byte ranges (in the passage text) of window tokens that match claim tokens.
+    pub matched: Vec<Range<usize>>,
+    /// Claim figures not carried by the window (as written canonically).
+    pub missing_figures: Vec<String>,
+    /// Polarity disagreement in the aligned region.
+    pub negation_mismatch: bool,
+    /// Changed content words.
+    pub changed: Vec<ChangedTerm>,
+}
+
+/// Per-unit statistics of the claim's tokens, computed once per passage.
+struct UnitStats {
+    /// Credit (0..1) of each claim content token in this unit.
+    credit: Vec<f64>,
+    /// Which claim bigrams occur in this unit.
+    bigrams: Vec<bool>,
+    /// Claim-stem ids of this unit's tokens that occur in the claim (for LCS).
+    ids: Vec<u32>,
+}
+
+/// Finds the best window of `units` for `claim`. `None` when `units` is empty or the
+/// claim has no tokens.
+pub fn best_window(claim: &Claim, units: &[Unit], p: &Params) -> Option<WindowMatch> {
+    if units.is_empty() || claim.tokens.is_empty() {
+        return None;
+    }
+    let content: Vec<&Token> = claim.tokens.iter().filter(|t| t.is_content()).collect();
+    let mut id_of: HashMap<&str, u32> = HashMap::new();
+    for t in &claim.tokens {
+        let n = id_of.len() as u32;
+        id_of.entry(t.stem.as_str()).or_insert(n);
+    }
+    let claim_ids: Vec<u32> = claim.tokens.iter().map(|t| id_of[t.stem.as_str()]).collect();
+    let claim_bigrams: Vec<(u32, u32)> = claim_ids.windows(2).map(|w| (w[0], w[1])).collect();
+
+    let stats: Vec<UnitStats> = units
+        .iter()
+        .map(|u| {
+            let stems: HashSet<&str> = u.tokens.iter().map(|t| t.stem.as_str()).collect();
+            let credit = content
+                .iter()
+                .map(|c| {
+                    if let Some(f) = &c.figure {
+                        let carried = u
+                            .tokens
+                            .iter()
+                            .any(|t| t.figure.as_ref().is_some_and(|g| f.is_carried_by(g)));
+                        return if carried { 1.0 } else { 0.0 };
+                    }
+                    if stems.contains(c.stem.as_str()) {
+                        return 1.0;
+                    }
+                    if u.tokens.iter().any(|t| is_synonym(&c.stem, &t.stem)) {
+                        return SYNONYM_CREDIT;
+                    }
+                    u.tokens
+                        .iter()
+                        .filter(|t| t.figure.is_none())
+                        .map(|t| token_similarity(&c.text, &t.text))
+                        .filter(|&s| s >= p.fuzzy_threshold)
+                        .fold(0.0, f64::max)
+                })
+                .collect();
+            let ids: Vec<u32> =
+                u.tokens.iter().filter_map(|t| id_of.get(t.stem.as_str()).copied()).collect();
+            let unit_pairs: HashSet<(u32, u32)> = u
+                .tokens
+                .windows(2)
+                .filter_map(|w| {
+                    Some((*id_of.get(w[0].stem.as_str())?, *id_of.get(w[1].stem.as_str())?))
+                })
+                .collect();
+            let bigrams = claim_bigrams.iter().map(|b| unit_pairs.contains(b)).collect();
+            UnitStats { credit, bigrams, ids }
+        })
+        .collect();
+
+    let mut best: Option<(usize, usize, f64, f64)> = None;
+    let wmax = p.window_sentences.max(1);
+    for size in 1..=wmax.min(units.len()) {
+        for first in 0..=units.len() - size {
+            let win = &stats[first..first + size];
+            let coverage = if content.is_empty() {
+                0.0
+            } else {
+                (0..content.len())
+                    .map(|k| win.iter().map(|s| s.credit[k]).fold(0.0, f64::max))
+                    .sum::<f64>()
+                    / content.len() as f64
+            };
+            let bigram = if claim_bigrams.is_empty() {
+                coverage
+            } else {
+                (0..claim_bigrams.len()).filter(|&k| win.iter().any(|s| s.bigrams[k])).count()
+                    as f64
+                    / claim_bigrams.len() as f64
+            };
+            let seq: Vec<u32> = win.iter().flat_map(|s| s.ids.iter().copied()).collect();
+            let order = lcs_len(&claim_ids, &seq) as f64 / claim_ids.len() as f64;
+            let score =
+                (W_COVERAGE * coverage + W_BIGRAM * bigram + W_ORDER * order).clamp(0.0, 1.0);
+            let better = match best {
+                None => true,
+                Some((bf, bl, bs, _)) => {
+                    let margin = if size > bl - bf + 1 { 0.01 } else { 1e-12 };
+                    score > bs + margin
+                }
+            };
+            if better {
+                best = Some((first, first + size - 1, score, coverage));
+            }
+        }
+    }
+    let (first, last, score, coverage) = best?;
+    let window: Vec<&Token> = units[first..=last].iter().flat_map(|u| u.tokens.iter()).collect();
+    Some(inspect(claim, &window, first, last, score, coverage, p))
+}
+
+/// Runs the figure, polarity and changed-term checks of a claim against a window.
+fn inspect(
+    claim: &Claim,
+    window: &[&Token],
+    first: usize,
+    last: usize,
+    score: f64,
+    coverage: f64,
+    p: &Params,
+) -> WindowMatch {
+    let missing_figures: Vec<String> = claim
+        .tokens
+        .iter()
+        .filter_map(|t| t.figure.as_ref())
+        .filter(|f| !window.iter().any(|w| w.figure.as_ref().is_some_and(|g| f.is_carried_by(g))))
+        .map(ToString::to_string)
+        .collect();
+
+    // Matched ranges for highlighting: exact stems or fuzzy credit.
+    let claim_stems: HashSet<&str> =
+        claim.tokens.iter().filter(|t| t.is_content()).map(|t| t.stem.as_str()).collect();
+    let matched: Vec<Range<usize>> = window
+        .iter()
+        .filter(|w| {
+            w.is_content()
+                && (claim_stems.contains(w.stem.as_str())
+                    || w.figure.as_ref().is_some_and(|g| {
+                        claim
+                            .tokens
+                            .iter()
+                            .any(|c| c.figure.as_ref().is_some_and(|f| f.is_carried_by(g)))
+                    })
+                    || (w.figure.is_none()
+                        && claim.tokens.iter().any(|c| {
+                            c.is_content()
+                                && token_similarity(&c.text, &w.text) >= p.fuzzy_threshold
+                        })))
+        })
+        .map(|w| w.start..w.end)
+        .collect();
+
+    let (negation_mismatch, changed) = align_checks(claim, window, p);
+    WindowMatch {
+        first,
+        last,
+        score,
+        coverage,
+        matched,
+        missing_figures,
+        negation_mismatch,
+        changed,
+    }
+}
+
+/// LCS alignment of claim and window stems: the matched index pairs.
+fn align(a: &[&Token], b: &[&Token], p: &Params) -> Vec<(usize, usize)> {
+    let same = |x: &Token, y: &Token| {
+        x.stem == y.stem
+            || (x.figure.is_some() && y.figure.is_some() && x.text == y.text)
+            || (x.figure.is_none()
+                && y.figure.is_none()
+                && !x.stop
+                && token_similarity(&x.text, &y.text) >= p.fuzzy_threshold.max(0.9))
+    };
+    let (n, m) = (a.len(), b.len());
+    let mut t = vec![0u32; (n + 1) * (m + 1)];
+    let idx = |i: usize, j: usize| i * (m + 1) + j;
+    for i in (0..n).rev() {
+        for j in (0..m).rev() {
+            t[idx(i, j)] = if same(a[i], b[j]) {
+                t[idx(i + 1, j + 1)] + 1
+            } else {
+                t[idx(i + 1, j)].max(t[idx(i, j + 1)])
+            };
+        }
+    }
+    let mut pairs = Vec::new();
+    let (mut i, mut j) = (0, 0);
+    while i < n && j < m {
+        if same(a[i], b[j]) && t[idx(i, j)] == t[idx(i + 1, j + 1)] + 1 {
+            pairs.push((i, j));
+            i += 1;
+            j += 1;
+        } else if t[idx(i + 1, j)] >= t[idx(i, j + 1)] {
+            i += 1;
+        } else {
+            j += 1;
+        }
+    }
+    pairs
+}
+
+fn align_checks(claim: &Claim, window: &[&Token], p: &Params) -> (bool, Vec<ChangedTerm>) {
+    let a: Vec<&Token> = claim.tokens.iter().collect();
+    // Alignment is quadratic; a window of a few sentences is small, but guard the size.
+    let b: Vec<&Token> = window.iter().copied().take(2_000).collect();
+    let pairs = align(&a, &b, p);
+    let mut changed = Vec::new();
+    if pairs.is_empty() {
+        return (false, changed);
+    }
+    // Polarity inside the aligned region of each side.
+    let (a0, b0) = pairs[0];
+    let (a1, b1) = pairs[pairs.len() - 1];
+    // Allow a negation just before the first aligned word ("not all", "never closes").
+    let a_lo = a0.saturating_sub(2);
+    let b_lo = b0.saturating_sub(2);
+    let neg_a = a[a_lo..=a1.min(a.len() - 1)].iter().filter(|t| is_negation(&t.text)).count();
+    let neg_b = b[b_lo..=b1.min(b.len() - 1)].iter().filter(|t| is_negation(&t.text)).count();
+    let negation_mismatch = (neg_a > 0) != (neg_b > 0);
+
+    // Gaps between aligned pairs, plus a bounded gap before the first and after the last.
+    let mut gaps: Vec<(Range<usize>, Range<usize>)> = Vec::new();
+    gaps.push((a0.saturating_sub(3)..a0, b0.saturating_sub(3)..b0));
+    for w in pairs.windows(2) {
+        let ((i1, j1), (i2, j2)) = (w[0], w[1]);
+        gaps.push((i1 + 1..i2, j1 + 1..j2));
+    }
+    gaps.push((a1 + 1..(a1 + 4).min(a.len()), b1 + 1..(b1 + 4).min(b.len())));
+    for (ga, gb) in gaps {
+        let ca: Vec<&Token> = a[ga].iter().copied().filter(|t| is_alignable_content(t)).collect();
+        let cb: Vec<&Token> = b[gb].iter().copied().filter(|t| is_alignable_content(t)).collect();
+        if ca.is_empty() || cb.is_empty() {
+            continue;
+        }
+        let mut found = false;
+        for x in &ca {
+            for y in &cb {
+                if OPPOSITES.contains(&(x.stem.clone(), y.stem.clone())) {
+                    changed.push(ChangedTerm { claim: x.text.clone(), evidence: y.text.clone() });
+                    found = true;
+                }
+            }
+        }
+        // A one-for-one swap counts only between words of one class: two content words,
+        // or two quantifier/relation words ("after" for "date" is rephrasing, not a swap).
+        if !found && ca.len() == 1 && cb.len() == 1 && ca[0].stop == cb[0].stop {
+            let (x, y) = (ca[0], cb[0]);
+            let related = x.stem == y.stem
+                || is_synonym(&x.stem, &y.stem)
+                || token_similarity(&x.text, &y.text) >= p.fuzzy_threshold;
+            if !related {
+                changed.push(ChangedTerm { claim: x.text.clone(), evidence: y.text.clone() });
+            }
+        }
+    }
+    (negation_mismatch, changed)
+}
+
+/// The verdict and flags for a claim given its best window (`None`: nothing cited).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Assessment {
+    /// The verdict.
+    pub verdict: Verdict,
+    /// The score (0 with no window).
+    pub score: f64,
+    /// A figure was not carried.
+    pub number_mismatch: bool,
+    /// Polarity disagreed.
+    pub negation_mismatch: bool,
+    /// A term was changed.
+    pub changed_term: bool,
+}
+
+/// Decides the verdict of a claim from its best window.
+pub fn assess(claim: &Claim, best: Option<&WindowMatch>, p: &Params) -> Assessment {
+    if claim.no_claim {
+        return Assessment {
+            verdict: Verdict::NoClaim,
+            score: best.map_or(0.0, |m| m.score),
+            number_mismatch: false,
+            negation_mismatch: false,
+            changed_term: false,
+        };
+    }
+    let Some(m) = best else {
+        return Assessment {
+            verdict: Verdict::Unsupported,
+            score: 0.0,
+            number_mismatch: false,
+            negation_mismatch: false,
+            changed_term: false,
+        };
+    };
+    let mut verdict = if m.score >= p.supported {
+        Verdict::Supported
+    } else if m.score >= p.partial {
+        Verdict::Partial
+    } else {
+        Verdict::Unsupported
+    };
+    // The checks only speak where the window is about the same thing as the claim.
+    let relevant = m.score >= p.partial;
+    let number_mismatch = !m.missing_figures.is_empty();
+    let negation_mismatch = relevant && m.negation_mismatch;
+    let changed_term = relevant && !m.changed.is_empty();
+    if number_mismatch || negation_mismatch {
+        verdict = Verdict::Unsupported;
+    } else if changed_term && verdict == Verdict::Supported {
+        verdict = Verdict::Partial;
+    }
+    Assessment { verdict, score: m.score, number_mismatch, negation_mismatch, changed_term }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::text::sentences::split;
+
+    fn check(claim_text: &str, passage: &str) -> (Assessment, WindowMatch) {
+        let p = Params::default();
+        let c = claim(claim_text);
+        let us = units(passage, &split(passage));
+        let m = best_window(&c, &us, &p).expect("a window");
+        (assess(&c, Some(&m), &p), m)
+    }
+
+    const PASSAGE: &str = "Warranty claims stay open for 45 days from the date of purchase. \
+        After that they close automatically. The minimum refund is £12.40. \
+        Claims must not be reopened by agents.";
+
+    #[test]
+    fn verbatim_is_supported_with_full_score() {
+        let (a, m) = check("After that they close automatically.", PASSAGE);
+        assert_eq!(a.verdict, Verdict::Supported);
+        assert!((m.score - 1.0).abs() < 1e-9, "{}", m.score);
+        assert_eq!((m.first, m.last), (1, 1));
+    }
+
+    #[test]
+    fn paraphrase_is_supported() {
+        let (a, m) = check("Warranty claims remain open for 45 days after purchase.", PASSAGE);
+        assert_eq!(a.verdict, Verdict::Supported, "{m:?}");
+    }
+
+    #[test]
+    fn changed_figure_is_unsupported() {
+        let (a, m) =
+            check("Warranty claims stay open for 54 days from the date of purchase.", PASSAGE);
+        assert!(a.number_mismatch);
+        assert_eq!(a.verdict, Verdict::Unsupported);
+        assert_eq!(m.missing_figures, ["54 day"]);
+        let (a, _) = check("The minimum refund is £12.50.", PASSAGE);
+        assert_eq!(a.verdict, Verdict::Unsupported);
+    }
+
+    #[test]
+    fn flipped_polarity_is_caught() {
+        let (a, _) = check("Claims must be reopened by agents.", PASSAGE);
+        assert!(a.negation_mismatch);
+        assert_eq!(a.verdict, Verdict::Unsupported);
+    }
+
+    #[test]
+    fn opposite_term_is_caught() {
+        let (a, m) = check("The maximum refund is £12.40.", PASSAGE);
+        assert!(a.changed_term, "{m:?}");
+        assert_eq!(
+            m.changed[0],
+            ChangedTerm { claim: "maximum".into(), evidence: "minimum".into() }
+        );
+        assert_ne!(a.verdict, Verdict::Supported);
+    }
+
+    #[test]
+    fn unrelated_claim_is_unsupported() {
+        let (a, _) = check("Employees receive a free parking space at headquarters.", PASSAGE);
+        assert_eq!(a.verdict, Verdict::Unsupported);
+    }
+
+    #[test]
+    fn chatter_and_questions_are_no_claim() {
+        for s in [
+            "Hi there!",
+            "Let me know if you need anything else.",
+            "Would you like the form?",
+            "## Summary",
+            "I hope this helps.",
+        ] {
+            assert!(claim(s).no_claim, "{s}");
+        }
+        assert!(!claim("Claims close after 45 days.").no_claim);
+    }
+
+    #[test]
+    fn matched_ranges_point_at_evidence_words() {
+        let (_, m) = check("Claims close automatically.", PASSAGE);
+        let words: Vec<&str> = m.matched.iter().map(|r| &PASSAGE[r.clone()]).collect();
+        assert!(words.contains(&"close") && words.contains(&"automatically"), "{words:?}");
+    }
+}

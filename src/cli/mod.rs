@@ -1,7 +1,76 @@
-//! Command line: one module per subcommand.
+//! The command line: one module per subcommand, each with its own argument struct and an
+//! `execute` that returns an [`Outcome`]. [`main`] maps outcomes and errors onto the exit
+//! codes fixed by SPEC.md in one place.
+
+use std::io::{self, Write};
 use std::process::ExitCode;
 
-/// Entry point used by `main.rs`.
+use clap::{Parser, Subcommand};
+
+pub mod score;
+pub mod sentences;
+
+/// How a subcommand ended, mapped onto exit codes by [`main`].
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Outcome {
+    /// Everything passed the gate (exit 0).
+    Pass,
+    /// The run completed and something fails the gate (exit 1).
+    GateFailed,
+}
+
+/// An error of use or of unreadable input (exit 2).
+#[derive(Debug, thiserror::Error)]
+#[error("{0}")]
+pub struct UsageError(pub String);
+
+#[derive(Debug, Parser)]
+#[command(
+    name = "plumbline",
+    version,
+    about = "Checks a log of document-grounded answers against a local document store: citations, entitlements and the lexical support of every sentence."
+)]
+struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Debug, Subcommand)]
+enum Command {
+    /// ROUGE-1/2/L, BLEU and fuzzy similarity between two texts or a file of pairs.
+    Score(score::ScoreArgs),
+    /// Print the sentences plumbline sees in a text (JSON), for inspecting the splitter.
+    Sentences(sentences::SentencesArgs),
+}
+
+/// Runs the command line and returns the process exit code.
 pub fn main() -> ExitCode {
-    ExitCode::SUCCESS
+    let cli = match Cli::try_parse() {
+        Ok(cli) => cli,
+        Err(e) => {
+            let code = if e.use_stderr() { 2 } else { 0 };
+            let _ = e.print();
+            return ExitCode::from(code);
+        }
+    };
+    let result = match cli.command {
+        Command::Score(args) => score::execute(&args),
+        Command::Sentences(args) => sentences::execute(&args),
+    };
+    match result {
+        Ok(Outcome::Pass) => ExitCode::SUCCESS,
+        Ok(Outcome::GateFailed) => ExitCode::from(1),
+        Err(e) if is_broken_pipe(&e) => ExitCode::SUCCESS,
+        Err(e) => {
+            let _ = writeln!(io::stderr(), "plumbline: error: {e:#}");
+            ExitCode::from(2)
+        }
+    }
+}
+
+/// A closed stdout (e.g. piped into `head`) is a normal end, not an error.
+fn is_broken_pipe(e: &anyhow::Error) -> bool {
+    e.chain().any(|c| {
+        c.downcast_ref::<io::Error>().is_some_and(|io| io.kind() == io::ErrorKind::BrokenPipe)
+    })
 }
