@@ -29,13 +29,16 @@ fn score_pairs(lines: &[String]) -> (std::process::Output, Vec<Value>) {
     let parsed = stdout
         .lines()
         .filter(|l| !l.trim().is_empty())
-        .map(|l| serde_json::from_str(l).unwrap_or_else(|e| panic!("output line is not JSON ({e}): {l}")))
+        .map(|l| {
+            serde_json::from_str(l).unwrap_or_else(|e| panic!("output line is not JSON ({e}): {l}"))
+        })
         .collect();
     (out, parsed)
 }
 
 fn input_line(pair: &Value) -> String {
-    json!({"id": pair["id"], "candidate": pair["candidate"], "reference": pair["reference"]}).to_string()
+    json!({"id": pair["id"], "candidate": pair["candidate"], "reference": pair["reference"]})
+        .to_string()
 }
 
 /// Differences between one output line and the reference values.
@@ -59,7 +62,10 @@ fn diffs(e: &Value, got: &Value) -> Vec<String> {
     }
     for i in 0..4 {
         if !close(f(&gb["precisions"][i]), f(&eb["precisions"][i])) {
-            d.push(format!("bleu.precisions[{i}] ours {} theirs {}", gb["precisions"][i], eb["precisions"][i]));
+            d.push(format!(
+                "bleu.precisions[{i}] ours {} theirs {}",
+                gb["precisions"][i], eb["precisions"][i]
+            ));
         }
     }
     for m in ["sys_len", "ref_len"] {
@@ -68,7 +74,10 @@ fn diffs(e: &Value, got: &Value) -> Vec<String> {
         }
     }
     if u(&got["levenshtein"]["distance"]) != u(&e["levenshtein"]) {
-        d.push(format!("levenshtein.distance ours {} theirs {}", got["levenshtein"]["distance"], e["levenshtein"]));
+        d.push(format!(
+            "levenshtein.distance ours {} theirs {}",
+            got["levenshtein"]["distance"], e["levenshtein"]
+        ));
     }
     if !close(f(&got["levenshtein"]["similarity"]), f(&e["levenshtein_similarity"])) {
         d.push(format!(
@@ -87,14 +96,29 @@ fn score_pairs_on_vector_file_equals_references() {
     let pairs = read_jsonl("oracle/pairs.jsonl");
     let lines: Vec<String> = pairs.iter().map(input_line).collect();
     let (out, got) = score_pairs(&lines);
-    assert!(out.status.success(), "plumbline exited {:?}: {}", out.status, String::from_utf8_lossy(&out.stderr));
+    assert!(
+        out.status.success(),
+        "plumbline exited {:?}: {}",
+        out.status,
+        String::from_utf8_lossy(&out.stderr)
+    );
     assert_eq!(got.len(), pairs.len(), "one output line per input line");
     let mut m = Mismatches::default();
     for (pair, g) in pairs.iter().zip(&got) {
         let id_ok = g["id"] == pair["id"];
-        let d = if id_ok { diffs(&pair["expected"], g) } else { vec![format!("id {} in output order", g["id"])] };
+        let d = if id_ok {
+            diffs(&pair["expected"], g)
+        } else {
+            vec![format!("id {} in output order", g["id"])]
+        };
         m.check(d.is_empty(), || {
-            format!("{} cand={:?} ref={:?}: {}", s(&pair["id"]), s(&pair["candidate"]), s(&pair["reference"]), d.join("; "))
+            format!(
+                "{} cand={:?} ref={:?}: {}",
+                s(&pair["id"]),
+                s(&pair["candidate"]),
+                s(&pair["reference"]),
+                d.join("; ")
+            )
         });
     }
     m.finish("plumbline score --pairs vs references");
@@ -112,7 +136,12 @@ fn a_bad_line_yields_an_error_line_and_the_rest_are_scored() {
         input_line(good[1]),
     ];
     let (out, got) = score_pairs(&lines);
-    assert_eq!(got.len(), 4, "one output line per input line: {got:?} (stderr: {})", String::from_utf8_lossy(&out.stderr));
+    assert_eq!(
+        got.len(),
+        4,
+        "one output line per input line: {got:?} (stderr: {})",
+        String::from_utf8_lossy(&out.stderr)
+    );
 
     // Lines 1 and 4 are scored as usual, and agree with the references.
     for (g, pair) in [(&got[0], good[0]), (&got[3], good[1])] {

@@ -49,7 +49,9 @@ fn ascii_alnum_words_equal_rouge_score_tokens() {
         for (text, key) in [("candidate", "candidate_tokens"), ("reference", "reference_tokens")] {
             let ours = ascii_alnum_words(s(&pair[text]));
             let theirs = strings(&pair["expected"][key]);
-            m.check(ours == theirs, || format!("{} [{text}]: ours {ours:?} theirs {theirs:?}", label(&pair)));
+            m.check(ours == theirs, || {
+                format!("{} [{text}]: ours {ours:?} theirs {theirs:?}", label(&pair))
+            });
         }
     }
     m.finish("ascii_alnum_words vs rouge-score tokenize");
@@ -107,7 +109,9 @@ fn tokenize_13a_equals_sacrebleu() {
         for (text, key) in [("candidate", "candidate_13a"), ("reference", "reference_13a")] {
             let ours = tokenize_13a(s(&pair[text]));
             let theirs = strings(&pair["expected"][key]);
-            m.check(ours == theirs, || format!("{} [{text}]: ours {ours:?} theirs {theirs:?}", label(&pair)));
+            m.check(ours == theirs, || {
+                format!("{} [{text}]: ours {ours:?} theirs {theirs:?}", label(&pair))
+            });
         }
     }
     m.finish("tokenize_13a vs sacrebleu 13a");

@@ -41,7 +41,10 @@ fn papineni_example_1_modified_precisions() {
     .collect();
     let c1 =
         words(&"It is a guide to action which ensures that the military always obeys the commands of the party".to_lowercase());
-    let c2 = words(&"It is to insure the troops forever hearing the activity guidebook that party direct".to_lowercase());
+    let c2 = words(
+        &"It is to insure the troops forever hearing the activity guidebook that party direct"
+            .to_lowercase(),
+    );
     assert_eq!(modified_precision(&c1, &refs, 1), (17, 18));
     assert_eq!(modified_precision(&c1, &refs, 2), (10, 17));
     assert_eq!(modified_precision(&c2, &refs, 1), (8, 14));
@@ -67,7 +70,14 @@ fn lin_section_3_1_rouge_l_example() {
 
     let l2 = rouge_l(&s2, &s1);
     let l3 = rouge_l(&s3, &s1);
-    for (v, want) in [(l2.precision, 0.75), (l2.recall, 0.75), (l2.f, 0.75), (l3.precision, 0.5), (l3.recall, 0.5), (l3.f, 0.5)] {
+    for (v, want) in [
+        (l2.precision, 0.75),
+        (l2.recall, 0.75),
+        (l2.f, 0.75),
+        (l3.precision, 0.5),
+        (l3.recall, 0.5),
+        (l3.f, 0.5),
+    ] {
         assert!(approx(v, want, 1e-12), "got {v}, want {want}: S2 {l2:?}, S3 {l3:?}");
     }
 }
@@ -93,9 +103,11 @@ fn levenshtein_kitten_sitting_is_3() {
 // printed; rapidfuzz 3.14.6 gives 0.96111, 0.84000, 0.81333 for Jaro-Winkler.
 #[test]
 fn winkler_1990_examples() {
-    for (a, b, want_jw, want_j) in
-        [("MARTHA", "MARHTA", 0.961, 0.944), ("DWAYNE", "DUANE", 0.840, 0.822), ("DIXON", "DICKSONX", 0.813, 0.767)]
-    {
+    for (a, b, want_jw, want_j) in [
+        ("MARTHA", "MARHTA", 0.961, 0.944),
+        ("DWAYNE", "DUANE", 0.840, 0.822),
+        ("DIXON", "DICKSONX", 0.813, 0.767),
+    ] {
         let jw = jaro_winkler(a, b);
         let j = jaro(a, b);
         assert!(approx(jw, want_jw, 5e-4), "jaro_winkler({a}, {b}) = {jw}, want {want_jw}");
