@@ -18,7 +18,7 @@ PINS = {
     "rouge-score": "0.1.2",
     "sacrebleu": "2.6.0",
     "rapidfuzz": "3.14.6",
-    "snowballstemmer": "3.1.1",
+    "snowballstemmer": "2.2.0",
     "pysbd": "0.3.4",
 }
 
