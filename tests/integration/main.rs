@@ -1,0 +1,12 @@
+//! External checks of plumbline's text engine and metrics against published
+//! references: committed reference vectors (tests/data/oracle, made by
+//! tests/oracle/make_vectors.py with pinned Python packages), Unicode's
+//! sentence-break conformance file, and worked examples from the papers
+//! that define the metrics.
+
+mod cli;
+mod common;
+mod oracle_metrics;
+mod paper_examples;
+mod stemmer;
+mod uax29;
