@@ -24,17 +24,18 @@ use std::collections::HashMap;
 use std::ops::Range;
 
 use crate::access::{self, Entitlement, Principals};
+use crate::answers::Answer;
 use crate::answers::markers::{Marker, find_markers, merge_adjacent, strip_markers};
-use crate::answers::{Answer, Citation, Locator};
+use crate::citations::{Resolved, resolve};
 use crate::config::Config;
 use crate::decisions::Decision;
 use crate::findings::{
-    Acceptance, AnswerFindings, ApprovedComparison, CitationFindings, CitationStatus, Evidence, Finding, Flag,
-    SentenceFindings, Severity, Span, Verdict, round6,
+    Acceptance, AnswerFindings, ApprovedComparison, CitationFindings, CitationStatus, Evidence,
+    Finding, Flag, SentenceFindings, Severity, Span, Verdict, round6,
 };
 use crate::metrics::{bleu, rouge};
+use crate::store::Store;
 use crate::store::index::{Index, content_terms};
-use crate::store::{Document, Store};
 use crate::support::{self, Claim, Params, Unit, WindowMatch};
 use crate::text::sentences;
 use crate::text::tokens::unicode_words;
@@ -80,162 +81,10 @@ pub struct Checked {
 /// a reviewer to look.
 pub fn severity_of(kind: &str) -> Severity {
     match kind {
-        "stale" | "access_unknown" | "principal_unknown" | "unused" | "unknown_ref" | "uncited" | "partial" => {
-            Severity::Warning
-        }
+        "stale" | "access_unknown" | "principal_unknown" | "unused" | "unknown_ref" | "uncited"
+        | "partial" => Severity::Warning,
         _ => Severity::Error,
     }
-}
-
-/// A citation resolved against the store.
-struct Resolved<'a> {
-    /// Position of the document in the store.
-    doc: Option<usize>,
-    document: Option<&'a Document>,
-    /// Visible-text range of the passage.
-    passage: Option<Range<usize>>,
-    /// File-byte range of the passage.
-    file: Option<Range<usize>>,
-    status: CitationStatus,
-    detail: Option<String>,
-    entitlement: Entitlement,
-}
-
-fn thousands(n: usize) -> String {
-    let s = n.to_string();
-    let mut out = String::new();
-    for (i, c) in s.chars().enumerate() {
-        if i > 0 && (s.len() - i) % 3 == 0 {
-            out.push(',');
-        }
-        out.push(c);
-    }
-    out
-}
-
-/// Words of a text after normalisation: what quote comparison looks at, so that white
-/// space, punctuation, case and look-alike characters do not matter.
-fn quote_words(text: &str) -> Vec<String> {
-    unicode_words(text)
-}
-
-fn contains_run(hay: &[String], needle: &[String]) -> bool {
-    needle.is_empty() || hay.windows(needle.len()).any(|w| w == needle)
-}
-
-fn resolve<'a>(ctx: &Context<'a>, c: &Citation, groups: Option<&[String]>) -> Resolved<'a> {
-    let mut r = Resolved {
-        doc: None,
-        document: None,
-        passage: None,
-        file: None,
-        status: CitationStatus::Ok,
-        detail: None,
-        entitlement: Entitlement::AccessUnknown,
-    };
-    let (pos, doc) = match ctx.store.resolve_position(&c.doc) {
-        Ok(found) => found,
-        Err(reason) => {
-            r.status = CitationStatus::Dead;
-            r.detail = Some(reason.to_string());
-            return r;
-        }
-    };
-    r.doc = Some(pos);
-    r.document = Some(doc);
-    let raw = doc.raw();
-    let size = raw.len();
-    let range = match &c.locator {
-        Locator::Whole => Ok(0..size),
-        Locator::Range { start, end } => {
-            let (s, e) = (usize::try_from(*start).unwrap_or(usize::MAX), usize::try_from(*end).unwrap_or(usize::MAX));
-            if s > e {
-                Err(format!("starts at byte {} after it ends at byte {}", thousands(s), thousands(e)))
-            } else if e > size {
-                Err(format!("ends at byte {}, the document has {}", thousands(e), thousands(size)))
-            } else if !raw.is_char_boundary(s) {
-                Err(format!("starts at byte {} inside a multi-byte character", thousands(s)))
-            } else if !raw.is_char_boundary(e) {
-                Err(format!("ends at byte {} inside a multi-byte character", thousands(e)))
-            } else {
-                Ok(s..e)
-            }
-        }
-        Locator::Chunk(id) => match doc.chunks.iter().find(|k| &k.id == id) {
-            None if doc.chunks.is_empty() => Err(format!("no chunk \"{id}\": the document defines no chunks")),
-            None => {
-                let known: Vec<&str> = doc.chunks.iter().map(|k| k.id.as_str()).collect();
-                Err(format!("no chunk \"{id}\"; the document has {}", known.join(", ")))
-            }
-            Some(k) if k.end > size || k.start > k.end => {
-                Err(format!("chunk \"{id}\" ends at byte {}, the document has {}", thousands(k.end), thousands(size)))
-            }
-            Some(k) if !raw.is_char_boundary(k.start) || !raw.is_char_boundary(k.end) => {
-                Err(format!("chunk \"{id}\" does not lie on character boundaries"))
-            }
-            Some(k) => Ok(k.start..k.end),
-        },
-    };
-    let file = match range {
-        Ok(f) => f,
-        Err(detail) => {
-            r.status = CitationStatus::BadLocator;
-            r.detail = Some(detail);
-            return r;
-        }
-    };
-    let visible = doc.visible_range(file.start, file.end);
-    if visible.is_empty() && !file.is_empty() {
-        r.status = CitationStatus::BadLocator;
-        r.detail = Some(format!(
-            "bytes {}–{} hold no visible text (markup only)",
-            thousands(file.start),
-            thousands(file.end)
-        ));
-        return r;
-    }
-    r.passage = Some(visible.clone());
-    r.file = Some(file);
-    r.entitlement = access::decide(groups, doc.effective_access(ctx.store.default_access.as_deref()));
-    match r.entitlement {
-        Entitlement::Allowed => {}
-        Entitlement::Forbidden => {
-            r.status = CitationStatus::Forbidden;
-            let access = doc.effective_access(ctx.store.default_access.as_deref()).map(|a| a.join(", ")).unwrap_or_default();
-            r.detail = Some(format!("readable by [{access}]; the user's groups are [{}]", groups.map(|g| g.join(", ")).unwrap_or_default()));
-            return r;
-        }
-        Entitlement::PrincipalUnknown => {
-            r.status = CitationStatus::PrincipalUnknown;
-            r.detail = Some("the user's groups are not known (no groups in the record, no principals entry)".into());
-            return r;
-        }
-        Entitlement::AccessUnknown => {
-            r.status = CitationStatus::AccessUnknown;
-            r.detail = Some("the document has no access list and the store has no default_access".into());
-            return r;
-        }
-    }
-    if let Some(claimed) = &c.sha256 {
-        if !claimed.eq_ignore_ascii_case(&doc.sha256) {
-            r.status = CitationStatus::Stale;
-            r.detail = Some(format!("the assistant saw sha256 {claimed}; the store has {}", doc.sha256));
-            return r;
-        }
-    }
-    if let Some(q) = &c.quote {
-        let words = quote_words(q);
-        let passage_words = quote_words(&doc.visible_text()[visible]);
-        if words.is_empty() || !contains_run(&passage_words, &words) {
-            r.status = CitationStatus::QuoteMismatch;
-            r.detail = Some(if words.is_empty() {
-                "the quote has no words".into()
-            } else {
-                "the quote does not occur in the cited passage (white space, punctuation and case ignored)".into()
-            });
-        }
-    }
-    r
 }
 
 /// The sentences of `doc` (visible text) that overlap `passage`, clipped to it.
@@ -249,7 +98,9 @@ fn passage_units(ctx: &Context<'_>, doc: usize, passage: &Range<usize>) -> Vec<U
             all.iter()
                 .filter(|s| s.end > passage.start && s.start < passage.end)
                 .map(|s| s.start.max(passage.start)..s.end.min(passage.end))
-                .filter(|s| !s.is_empty() && text.is_char_boundary(s.start) && text.is_char_boundary(s.end))
+                .filter(|s| {
+                    !s.is_empty() && text.is_char_boundary(s.start) && text.is_char_boundary(s.end)
+                })
                 .collect()
         })
         .unwrap_or_default();
@@ -298,7 +149,14 @@ fn evidence(ctx: &Context<'_>, loc: &Located, redact: bool) -> Evidence {
         .filter(|r| r.start >= loc.visible.start && r.end <= loc.visible.end)
         .map(|r| Span { start: r.start - loc.visible.start, end: r.end - loc.visible.start })
         .collect();
-    Evidence { doc: d.id.clone(), start: file.start, end: file.end, text, score: round6(loc.m.score), matched }
+    Evidence {
+        doc: d.id.clone(),
+        start: file.start,
+        end: file.end,
+        text,
+        score: round6(loc.m.score),
+        matched,
+    }
 }
 
 /// One sentence of the answer before scoring.
@@ -316,7 +174,11 @@ fn pieces(answer: &str, markers: &[Marker], known: &[&str]) -> Vec<Piece> {
             let inside: Vec<Marker> = markers
                 .iter()
                 .filter(|m| m.start >= span.start && m.end <= span.end)
-                .map(|m| Marker { start: m.start - span.start, end: m.end - span.start, refs: m.refs.clone() })
+                .map(|m| Marker {
+                    start: m.start - span.start,
+                    end: m.end - span.start,
+                    refs: m.refs.clone(),
+                })
                 .collect();
             let mut refs: Vec<String> = Vec::new();
             let mut unknown: Vec<String> = Vec::new();
@@ -338,13 +200,15 @@ fn pieces(answer: &str, markers: &[Marker], known: &[&str]) -> Vec<Piece> {
 /// Checks one answer. See the module documentation.
 pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
     let p = ctx.params();
-    let groups = access::user_groups(answer.groups.as_deref(), answer.user.as_deref(), ctx.principals);
+    let groups =
+        access::user_groups(answer.groups.as_deref(), answer.user.as_deref(), ctx.principals);
     let known: Vec<&str> = answer.citations.iter().map(|c| c.r#ref.as_str()).collect();
     let markers = merge_adjacent(&answer.answer, &find_markers(&answer.answer, &known));
     let uses_markers = !markers.is_empty();
     let pieces = pieces(&answer.answer, &markers, &known);
 
-    let resolved: Vec<Resolved<'_>> = answer.citations.iter().map(|c| resolve(ctx, c, groups)).collect();
+    let resolved: Vec<Resolved<'_>> =
+        answer.citations.iter().map(|c| resolve(ctx.store, c, groups)).collect();
     let mut unit_cache: HashMap<usize, Vec<Unit>> = HashMap::new();
     let mut used_by: Vec<Vec<usize>> = vec![Vec::new(); resolved.len()];
     let mut sentences_out = Vec::with_capacity(pieces.len());
@@ -359,7 +223,10 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
         // Best window over the cited passages.
         let mut best: Option<(usize, Located)> = None;
         for &ci in &candidates {
-            let (Some(doc), Some(passage)) = (resolved[ci].doc, resolved[ci].passage.clone()) else { continue };
+            let (Some(doc), Some(passage)) = (resolved[ci].doc, resolved[ci].passage.clone())
+            else {
+                continue;
+            };
             let units = unit_cache.entry(ci).or_insert_with(|| passage_units(ctx, doc, &passage));
             if let Some(m) = support::best_window(&claim, units, &p) {
                 if best.as_ref().is_none_or(|(_, b)| m.score > b.m.score) {
@@ -389,15 +256,15 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
         if uses_markers && piece.refs.is_empty() && piece.unknown.is_empty() && !claim.no_claim {
             flags.push(Flag::Uncited);
         }
-        let redact_cited = |ci: usize| {
-            ctx.redact_restricted && resolved[ci].entitlement != Entitlement::Allowed
-        };
+        let redact_cited =
+            |ci: usize| ctx.redact_restricted && resolved[ci].entitlement != Entitlement::Allowed;
         let mut ev = best.as_ref().map(|(ci, loc)| evidence(ctx, loc, redact_cited(*ci)));
         let mut cited_ev = None;
 
         // Search the whole store for sentences the citations do not carry.
         if !claim.no_claim && assessment.verdict != Verdict::Supported {
-            let cited_docs: Vec<usize> = candidates.iter().filter_map(|&ci| resolved[ci].doc).collect();
+            let cited_docs: Vec<usize> =
+                candidates.iter().filter_map(|&ci| resolved[ci].doc).collect();
             let cited_score = best.as_ref().map_or(0.0, |(_, l)| l.m.score);
             let margin = ctx.config.support.misattribution_margin;
             let mut best_open: Option<Located> = None;
@@ -409,21 +276,26 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
                 let units = units_around(ctx, hit.doc, hit.sentence, p.window_sentences);
                 let Some(m) = support::best_window(&claim, &units, &p) else { continue };
                 let d = &ctx.store.documents[hit.doc];
-                let ent = access::decide(groups, d.effective_access(ctx.store.default_access.as_deref()));
-                let slot = if ent == Entitlement::Forbidden { &mut best_closed } else { &mut best_open };
+                let ent =
+                    access::decide(groups, d.effective_access(ctx.store.default_access.as_deref()));
+                let slot =
+                    if ent == Entitlement::Forbidden { &mut best_closed } else { &mut best_open };
                 if slot.as_ref().is_none_or(|b| m.score > b.m.score) {
                     *slot = Some(locate(hit.doc, &units, m));
                 }
             }
             if let Some(open) = best_open.filter(|o| {
-                o.m.score >= p.supported && o.m.score >= cited_score + margin && o.m.missing_figures.is_empty()
+                o.m.score >= p.supported
+                    && o.m.score >= cited_score + margin
+                    && o.m.missing_figures.is_empty()
             }) {
                 flags.push(Flag::Misattributed);
                 cited_ev = ev.take();
                 ev = Some(evidence(ctx, &open, false));
             }
             if let Some(closed) = best_closed.filter(|c| {
-                c.m.score >= ctx.config.support.restricted_match && c.m.score >= cited_score + margin
+                c.m.score >= ctx.config.support.restricted_match
+                    && c.m.score >= cited_score + margin
             }) {
                 flags.push(Flag::RestrictedMatch);
                 if cited_ev.is_none() {
@@ -443,8 +315,16 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
             flags,
             evidence: ev,
             cited_evidence: cited_ev,
-            figures: best.as_ref().filter(|_| assessment.number_mismatch).map(|(_, l)| l.m.missing_figures.clone()).unwrap_or_default(),
-            changed_terms: best.as_ref().filter(|_| assessment.changed_term).map(|(_, l)| l.m.changed.clone()).unwrap_or_default(),
+            figures: best
+                .as_ref()
+                .filter(|_| assessment.number_mismatch)
+                .map(|(_, l)| l.m.missing_figures.clone())
+                .unwrap_or_default(),
+            changed_terms: best
+                .as_ref()
+                .filter(|_| assessment.changed_term)
+                .map(|(_, l)| l.m.changed.clone())
+                .unwrap_or_default(),
         });
     }
 
@@ -459,11 +339,12 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
             let mut detail = r.detail.clone();
             if status == CitationStatus::Ok && used.is_empty() {
                 status = CitationStatus::Unused;
-                detail = Some(if uses_markers && !pieces.iter().any(|p| p.refs.contains(&c.r#ref)) {
-                    "no marker in the answer names it".into()
-                } else {
-                    "no sentence of the answer is supported by it".into()
-                });
+                detail =
+                    Some(if uses_markers && !pieces.iter().any(|p| p.refs.contains(&c.r#ref)) {
+                        "no marker in the answer names it".into()
+                    } else {
+                        "no sentence of the answer is supported by it".into()
+                    });
             }
             CitationFindings {
                 r#ref: c.r#ref.clone(),
@@ -481,7 +362,12 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
         if c.status != CitationStatus::Ok {
             let kind = c.status.as_str();
             let detail = c.detail.clone().unwrap_or_default();
-            findings.push(finding(kind, None, Some(c.r#ref.clone()), format!("citation [{}] to {}: {}", c.r#ref, c.doc, detail)));
+            findings.push(finding(
+                kind,
+                None,
+                Some(c.r#ref.clone()),
+                format!("citation [{}] to {}: {}", c.r#ref, c.doc, detail),
+            ));
         }
     }
     for s in &sentences_out {
@@ -491,13 +377,21 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
                 "unsupported",
                 Some(s.index),
                 None,
-                format!("sentence {} is not supported by its citations (score {:.2}): \"{short}\"", s.index + 1, s.score),
+                format!(
+                    "sentence {} is not supported by its citations (score {:.2}): \"{short}\"",
+                    s.index + 1,
+                    s.score
+                ),
             )),
             Verdict::Partial => findings.push(finding(
                 "partial",
                 Some(s.index),
                 None,
-                format!("sentence {} is only partly supported (score {:.2}): \"{short}\"", s.index + 1, s.score),
+                format!(
+                    "sentence {} is only partly supported (score {:.2}): \"{short}\"",
+                    s.index + 1,
+                    s.score
+                ),
             )),
             _ => {}
         }
@@ -505,21 +399,38 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
             let msg = match f {
                 Flag::UnknownRef => {
                     let piece = &pieces[s.index];
-                    format!("sentence {} cites [{}], which no citation of the answer carries", s.index + 1, piece.unknown.join("], ["))
+                    format!(
+                        "sentence {} cites [{}], which no citation of the answer carries",
+                        s.index + 1,
+                        piece.unknown.join("], [")
+                    )
                 }
                 Flag::NumberMismatch => format!(
                     "sentence {} states {} that the evidence does not give",
                     s.index + 1,
                     s.figures.join(", ")
                 ),
-                Flag::NegationMismatch => format!("sentence {} and its evidence disagree in polarity (one is negated)", s.index + 1),
+                Flag::NegationMismatch => format!(
+                    "sentence {} and its evidence disagree in polarity (one is negated)",
+                    s.index + 1
+                ),
                 Flag::ChangedTerm => format!(
                     "sentence {} says {} where the evidence says {}",
                     s.index + 1,
-                    s.changed_terms.iter().map(|t| format!("\"{}\"", t.claim)).collect::<Vec<_>>().join(", "),
-                    s.changed_terms.iter().map(|t| format!("\"{}\"", t.evidence)).collect::<Vec<_>>().join(", ")
+                    s.changed_terms
+                        .iter()
+                        .map(|t| format!("\"{}\"", t.claim))
+                        .collect::<Vec<_>>()
+                        .join(", "),
+                    s.changed_terms
+                        .iter()
+                        .map(|t| format!("\"{}\"", t.evidence))
+                        .collect::<Vec<_>>()
+                        .join(", ")
                 ),
-                Flag::Uncited => format!("sentence {} makes a claim with no citation marker", s.index + 1),
+                Flag::Uncited => {
+                    format!("sentence {} makes a claim with no citation marker", s.index + 1)
+                }
                 Flag::Misattributed => format!(
                     "sentence {} is carried better by {} than by what it cites",
                     s.index + 1,
@@ -551,10 +462,12 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
         }
     }
     let gate = &ctx.config.gate;
-    let open_unsupported = findings.iter().filter(|f| f.kind == "unsupported" && f.accepted.is_none()).count();
+    let open_unsupported =
+        findings.iter().filter(|f| f.kind == "unsupported" && f.accepted.is_none()).count();
     for f in &mut findings {
         f.gate = f.accepted.is_none()
-            && (gate.fails_on(&f.kind) || (f.kind == "unsupported" && open_unsupported > gate.max_unsupported));
+            && (gate.fails_on(&f.kind)
+                || (f.kind == "unsupported" && open_unsupported > gate.max_unsupported));
     }
     let passed = !findings.iter().any(|f| f.gate);
 
@@ -588,7 +501,15 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
 }
 
 fn finding(kind: &str, sentence: Option<usize>, r#ref: Option<String>, message: String) -> Finding {
-    Finding { kind: kind.to_owned(), sentence, r#ref, severity: severity_of(kind), message, gate: false, accepted: None }
+    Finding {
+        kind: kind.to_owned(),
+        sentence,
+        r#ref,
+        severity: severity_of(kind),
+        message,
+        gate: false,
+        accepted: None,
+    }
 }
 
 /// The first `max` characters of `s`, with an ellipsis when cut.

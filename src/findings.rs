@@ -524,3 +524,46 @@ pub struct Report {
 pub fn round6(x: f64) -> f64 {
     (x * 1e6).round() / 1e6
 }
+
+/// Every finding kind with a one-line description, in report order: the vocabulary of
+/// the gate (`fail_on`), of SARIF rules and of the report's legend.
+pub const KIND_DESCRIPTIONS: &[(&str, &str)] = &[
+    ("unsupported", "A sentence that its cited passages do not carry."),
+    ("partial", "A sentence that its cited passages carry only in part."),
+    (
+        "number_mismatch",
+        "A figure, amount, date, time or percentage of the sentence is absent from or different in the evidence.",
+    ),
+    (
+        "changed_term",
+        "Aligned with its evidence, the sentence puts a different content word where the evidence has another (an opposite, another quantifier, another identifier).",
+    ),
+    ("negation_mismatch", "The sentence and its evidence disagree in polarity."),
+    ("restricted_match", "The sentence closely matches a document the user may not read."),
+    (
+        "misattributed",
+        "Another document in the store supports the sentence clearly better than what it cites.",
+    ),
+    ("unknown_ref", "A marker names a ref that no citation of the answer carries."),
+    ("uncited", "The answer uses markers but this sentence makes a claim without one."),
+    ("dead", "The citation names no document of the store, or a path outside it."),
+    (
+        "bad_locator",
+        "The citation's offsets are out of range or off a character boundary, or its chunk is unknown.",
+    ),
+    ("quote_mismatch", "The quote the assistant gave is not found in the cited passage."),
+    ("stale", "The document changed since the assistant saw it (sha256 differs)."),
+    ("forbidden", "The user's groups do not include the cited document's access."),
+    (
+        "access_unknown",
+        "The cited document has no access list, so the entitlement cannot be decided.",
+    ),
+    ("principal_unknown", "The user's groups are unknown, so the entitlement cannot be decided."),
+    ("unused", "The citation resolves but supports no sentence of the answer."),
+    ("rejected_line", "A line of the answers file could not be read as an answer."),
+];
+
+/// The description of a finding kind (empty for an unknown kind).
+pub fn describe(kind: &str) -> &'static str {
+    KIND_DESCRIPTIONS.iter().find(|(k, _)| *k == kind).map_or("", |(_, d)| d)
+}

@@ -11,9 +11,9 @@
 //! * [`text`] — normalisation, tokens with byte offsets, figures, sentences;
 //! * [`metrics`] — ROUGE, BLEU, Levenshtein, Jaro-Winkler, fuzzy token matching;
 //! * [`config`], [`findings`] — plain data: settings and results;
-//! * [`store`], [`answers`] — the inputs, read and validated once;
-//! * [`citations`], [`access`], [`support`] — the per-answer checks;
-//! * [`check`] — runs them over one answer and over a whole log;
+//! * [`store`], [`answers`], [`decisions`] — the inputs, read and validated once;
+//! * [`access`], [`citations`], [`support`] — the per-answer checks;
+//! * [`check`] — runs them over one answer; [`run`] over a whole log;
 //! * [`report`] — writers that only read findings;
 //! * [`cli`] — one module per subcommand.
 //!
@@ -32,8 +32,8 @@ pub mod findings;
 pub mod store;
 pub mod answers;
 pub mod decisions;
-pub mod citations;
 pub mod access;
+pub mod citations;
 pub mod support;
 pub mod check;
 pub mod run;

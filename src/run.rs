@@ -33,8 +33,8 @@ use crate::cli::{Outcome, UsageError};
 use crate::config::Config;
 use crate::decisions::{self, Decision};
 use crate::findings::{
-    AnswerFindings, DecisionRecord, Decisions, Flag, GateResult, InputFile, Inputs, RejectedLine, Report,
-    StoreProblemRecord, StoreRecord, Summary, Tool, Verdict, round6,
+    AnswerFindings, DecisionRecord, Decisions, Flag, GateResult, InputFile, Inputs, RejectedLine,
+    Report, StoreProblemRecord, StoreRecord, Summary, Tool, Verdict, round6,
 };
 use crate::report;
 use crate::store::index::{Index, term_hash};
@@ -53,8 +53,10 @@ impl FromStr for Shard {
     type Err = String;
     fn from_str(s: &str) -> Result<Shard, String> {
         let (k, n) = s.split_once('/').ok_or_else(|| format!("expected K/N, found {s:?}"))?;
-        let k: u64 = k.trim().parse().map_err(|_| format!("shard K must be a whole number, found {k:?}"))?;
-        let n: u64 = n.trim().parse().map_err(|_| format!("shard N must be a whole number, found {n:?}"))?;
+        let k: u64 =
+            k.trim().parse().map_err(|_| format!("shard K must be a whole number, found {k:?}"))?;
+        let n: u64 =
+            n.trim().parse().map_err(|_| format!("shard N must be a whole number, found {n:?}"))?;
         if n == 0 || k == 0 || k > n {
             return Err(format!("shard must satisfy 1 ≤ K ≤ N, found {k}/{n}"));
         }
@@ -132,10 +134,15 @@ impl<R: Read> Read for Hashing<R> {
 
 /// Size and SHA-256 of a file, for the run record.
 pub fn file_record(path: &Path) -> Result<InputFile> {
-    let mut f = File::open(path).map_err(|e| UsageError(format!("cannot read {}: {e}", path.display())))?;
-    let mut hasher = Sha256::new();
-    let size = io::copy(&mut f, &mut hasher).with_context(|| format!("reading {}", path.display()))?;
-    Ok(InputFile { path: path.display().to_string(), size, sha256: hex(&hasher.finalize()) })
+    let mut f =
+        File::open(path).map_err(|e| UsageError(format!("cannot read {}: {e}", path.display())))?;
+    let mut h = Hashing { inner: &mut f, hasher: Sha256::new(), bytes: 0 };
+    io::copy(&mut h, &mut io::sink()).with_context(|| format!("reading {}", path.display()))?;
+    Ok(InputFile {
+        path: path.display().to_string(),
+        size: h.bytes,
+        sha256: hex(&h.hasher.finalize()),
+    })
 }
 
 /// Lower-case hex.
@@ -214,8 +221,18 @@ pub fn load(inputs: &RunInputs) -> Result<Loaded> {
 }
 
 /// Counts, gate and the rest of the summary from the checked answers.
-pub fn summarise(config: &Config, answers: &[AnswerFindings], rejected: &[RejectedLine], lines_read: usize) -> Summary {
-    let mut s = Summary { lines_read, answers_checked: answers.len(), lines_rejected: rejected.len(), ..Summary::default() };
+pub fn summarise(
+    config: &Config,
+    answers: &[AnswerFindings],
+    rejected: &[RejectedLine],
+    lines_read: usize,
+) -> Summary {
+    let mut s = Summary {
+        lines_read,
+        answers_checked: answers.len(),
+        lines_rejected: rejected.len(),
+        ..Summary::default()
+    };
     for v in Verdict::ALL {
         s.verdicts.insert(v.as_str().into(), 0);
     }
@@ -283,7 +300,10 @@ pub fn summarise(config: &Config, answers: &[AnswerFindings], rejected: &[Reject
         ));
     }
     if !rejected.is_empty() && !config.gate.allow_rejected_lines {
-        reasons.push(format!("{} line(s) of the answers file could not be read (allow_rejected_lines = false)", rejected.len()));
+        reasons.push(format!(
+            "{} line(s) of the answers file could not be read (allow_rejected_lines = false)",
+            rejected.len()
+        ));
     }
     s.gate = GateResult { passed: reasons.is_empty(), reasons };
     s
@@ -311,13 +331,21 @@ pub fn check(inputs: &RunInputs, outputs: &Outputs, verbosity: Verbosity) -> Res
 }
 
 /// Reads the answers log and checks every answer; builds the findings document.
-pub fn check_answers(inputs: &RunInputs, ctx: &Context<'_>, loaded: &Loaded, verbosity: Verbosity) -> Result<(Report, Vec<bool>)> {
+pub fn check_answers(
+    inputs: &RunInputs,
+    ctx: &Context<'_>,
+    loaded: &Loaded,
+    verbosity: Verbosity,
+) -> Result<(Report, Vec<bool>)> {
     let from_stdin = inputs.answers.as_os_str() == "-";
-    let source: Box<dyn Read> = if from_stdin {
-        Box::new(io::stdin().lock())
-    } else {
-        Box::new(File::open(&inputs.answers).map_err(|e| UsageError(format!("cannot read {}: {e}", inputs.answers.display())))?)
-    };
+    let source: Box<dyn Read> =
+        if from_stdin {
+            Box::new(io::stdin().lock())
+        } else {
+            Box::new(File::open(&inputs.answers).map_err(|e| {
+                UsageError(format!("cannot read {}: {e}", inputs.answers.display()))
+            })?)
+        };
     let total_lines = if from_stdin { None } else { count_lines(&inputs.answers).ok() };
     let mut hashing = Hashing { inner: source, hasher: Sha256::new(), bytes: 0 };
     let limits = ReaderLimits::from(&loaded.config.limits);
@@ -330,7 +358,8 @@ pub fn check_answers(inputs: &RunInputs, ctx: &Context<'_>, loaded: &Loaded, ver
     let reports_rejected = inputs.shard.is_none_or(|s| s.k == 1);
     let lines_read;
     {
-        let mut reader = AnswerReader::with_limits(BufReader::with_capacity(1 << 16, &mut hashing), limits);
+        let mut reader =
+            AnswerReader::with_limits(BufReader::with_capacity(1 << 16, &mut hashing), limits);
         const BATCH: usize = 1024;
         loop {
             let batch: Vec<_> = reader.by_ref().take(BATCH).collect();
@@ -342,16 +371,24 @@ pub fn check_answers(inputs: &RunInputs, ctx: &Context<'_>, loaded: &Loaded, ver
                 match item {
                     Ok(a) if inputs.shard.is_none_or(|s| s.owns(&a.id)) => todo.push(a),
                     Ok(_) => other_shards += 1,
-                    Err(r) if reports_rejected => rejected.push(RejectedLine { line: r.line, error: r.error }),
+                    Err(r) if reports_rejected => {
+                        rejected.push(RejectedLine { line: r.line, error: r.error })
+                    }
                     Err(_) => other_shards += 1,
                 }
             }
             let results: Vec<Result<Checked, RejectedLine>> = todo
                 .par_iter()
                 .map(|a| {
-                    catch_unwind(AssertUnwindSafe(|| check_answer(ctx, a))).map_err(|p| RejectedLine {
-                        line: a.line,
-                        error: format!("answer {}: internal error while checking: {}", a.id, panic_message(p.as_ref())),
+                    catch_unwind(AssertUnwindSafe(|| check_answer(ctx, a))).map_err(|p| {
+                        RejectedLine {
+                            line: a.line,
+                            error: format!(
+                                "answer {}: internal error while checking: {}",
+                                a.id,
+                                panic_message(p.as_ref())
+                            ),
+                        }
                     })
                 })
                 .collect();
@@ -415,7 +452,11 @@ pub fn check_answers(inputs: &RunInputs, ctx: &Context<'_>, loaded: &Loaded, ver
                     .store
                     .problems
                     .iter()
-                    .map(|p| StoreProblemRecord { path: p.path.clone(), field: p.field.clone(), message: p.message.clone() })
+                    .map(|p| StoreProblemRecord {
+                        path: p.path.clone(),
+                        field: p.field.clone(),
+                        message: p.message.clone(),
+                    })
                     .collect(),
             },
         },
@@ -426,7 +467,12 @@ pub fn check_answers(inputs: &RunInputs, ctx: &Context<'_>, loaded: &Loaded, ver
         decisions: Decisions {
             applied: used.iter().filter(|u| **u).count(),
             stale,
-            rejected: loaded.decisions.1.iter().map(|r| RejectedLine { line: r.line, error: r.error.clone() }).collect(),
+            rejected: loaded
+                .decisions
+                .1
+                .iter()
+                .map(|r| RejectedLine { line: r.line, error: r.error.clone() })
+                .collect(),
         },
     };
     Ok((report, used))
@@ -455,8 +501,10 @@ fn progress_bar(verbosity: Verbosity, total: Option<u64>) -> ProgressBar {
         Verbosity::Normal => return ProgressBar::hidden(),
     };
     let bar = ProgressBar::with_draw_target(total, target);
-    let style = ProgressStyle::with_template("checking {bar:30} {pos}/{len} answers ({per_sec}, {eta} left)")
-        .unwrap_or_else(|_| ProgressStyle::default_bar());
+    let style = ProgressStyle::with_template(
+        "checking {bar:30} {pos}/{len} answers ({per_sec}, {eta} left)",
+    )
+    .unwrap_or_else(|_| ProgressStyle::default_bar());
     bar.set_style(style);
     // Shown only on runs long enough to need it.
     bar.enable_steady_tick(Duration::from_millis(250));
@@ -467,19 +515,23 @@ fn progress_bar(verbosity: Verbosity, total: Option<u64>) -> ProgressBar {
 pub fn write_outputs(report: &Report, outputs: &Outputs) -> Result<()> {
     if let Some(path) = &outputs.json {
         let bytes = report::json::to_bytes(report)?;
-        report::write_atomic(path, &bytes).with_context(|| format!("writing {}", path.display()))?;
+        report::write_atomic(path, &bytes)
+            .with_context(|| format!("writing {}", path.display()))?;
     }
     if let Some(path) = &outputs.html {
         let bytes = report::html::render(report)?;
-        report::write_atomic(path, bytes.as_bytes()).with_context(|| format!("writing {}", path.display()))?;
+        report::write_atomic(path, bytes.as_bytes())
+            .with_context(|| format!("writing {}", path.display()))?;
     }
     if let Some(path) = &outputs.junit {
         let bytes = report::junit::render(report);
-        report::write_atomic(path, bytes.as_bytes()).with_context(|| format!("writing {}", path.display()))?;
+        report::write_atomic(path, bytes.as_bytes())
+            .with_context(|| format!("writing {}", path.display()))?;
     }
     if let Some(path) = &outputs.sarif {
         let bytes = report::sarif::render(report)?;
-        report::write_atomic(path, &bytes).with_context(|| format!("writing {}", path.display()))?;
+        report::write_atomic(path, &bytes)
+            .with_context(|| format!("writing {}", path.display()))?;
     }
     Ok(())
 }
@@ -489,7 +541,8 @@ pub fn print_summary(report: &Report, outputs: &Outputs, store_seconds: f64, ela
     let s = &report.summary;
     let mut err = io::stderr().lock();
     let nonzero = |m: &BTreeMap<String, usize>| -> String {
-        let v: Vec<String> = m.iter().filter(|(_, n)| **n > 0).map(|(k, n)| format!("{k} {n}")).collect();
+        let v: Vec<String> =
+            m.iter().filter(|(_, n)| **n > 0).map(|(k, n)| format!("{k} {n}")).collect();
         if v.is_empty() { "none".into() } else { v.join(", ") }
     };
     let _ = writeln!(
@@ -506,10 +559,19 @@ pub fn print_summary(report: &Report, outputs: &Outputs, store_seconds: f64, ela
         s.errors, s.warnings, s.accepted, s.entitlement_breaches
     );
     if !report.decisions.stale.is_empty() {
-        let _ = writeln!(err, "  reviewer decisions: {} applied, {} stale (match nothing)", report.decisions.applied, report.decisions.stale.len());
+        let _ = writeln!(
+            err,
+            "  reviewer decisions: {} applied, {} stale (match nothing)",
+            report.decisions.applied,
+            report.decisions.stale.len()
+        );
     }
     if !report.inputs.store.problems.is_empty() {
-        let _ = writeln!(err, "  store: {} entries skipped (see inputs.store.problems)", report.inputs.store.problems.len());
+        let _ = writeln!(
+            err,
+            "  store: {} entries skipped (see inputs.store.problems)",
+            report.inputs.store.problems.len()
+        );
     }
     let _ = writeln!(err, "  answers:   {} pass, {} fail", s.answers_passed, s.answers_failed);
     if s.gate.passed {
@@ -520,13 +582,21 @@ pub fn print_summary(report: &Report, outputs: &Outputs, store_seconds: f64, ela
             let _ = writeln!(err, "  - {r}");
         }
     }
-    for (label, path) in [("findings", &outputs.json), ("report", &outputs.html), ("junit", &outputs.junit), ("sarif", &outputs.sarif)] {
+    for (label, path) in [
+        ("findings", &outputs.json),
+        ("report", &outputs.html),
+        ("junit", &outputs.junit),
+        ("sarif", &outputs.sarif),
+    ] {
         if let Some(p) = path.as_ref().filter(|p| p.as_os_str() != "-") {
             let _ = writeln!(err, "  {label}: {}", p.display());
         }
     }
     let _ = writeln!(err, "  took {:.2}s", elapsed.as_secs_f64());
-    let _ = writeln!(err, "A lexical check is evidence for a reviewer, not proof: the reviewer decides.");
+    let _ = writeln!(
+        err,
+        "A lexical check is evidence for a reviewer, not proof: the reviewer decides."
+    );
 }
 
 #[cfg(test)]
@@ -543,7 +613,11 @@ mod tests {
 
     #[test]
     fn shard_parsing_and_partition() {
-        assert!("0/3".parse::<Shard>().is_err() && "4/3".parse::<Shard>().is_err() && "x".parse::<Shard>().is_err());
+        assert!(
+            "0/3".parse::<Shard>().is_err()
+                && "4/3".parse::<Shard>().is_err()
+                && "x".parse::<Shard>().is_err()
+        );
         let shards: Vec<Shard> = (1..=3).map(|k| Shard { k, n: 3 }).collect();
         for i in 0..200 {
             let id = format!("a-{i:04}");

@@ -67,7 +67,12 @@ pub fn execute(args: &CheckArgs) -> Result<Outcome> {
         redact_restricted: args.redact_restricted,
         command: std::env::args().collect(),
     };
-    let outputs = Outputs { json: args.json.clone(), html: args.html.clone(), junit: args.junit.clone(), sarif: args.sarif.clone() };
+    let outputs = Outputs {
+        json: args.json.clone(),
+        html: args.html.clone(),
+        junit: args.junit.clone(),
+        sarif: args.sarif.clone(),
+    };
     let verbosity = if args.quiet {
         Verbosity::Quiet
     } else if args.progress {

@@ -7,6 +7,8 @@ use std::process::ExitCode;
 
 use clap::{Parser, Subcommand};
 
+pub mod check;
+pub mod demo;
 pub mod score;
 pub mod sentences;
 
@@ -37,6 +39,10 @@ struct Cli {
 
 #[derive(Debug, Subcommand)]
 enum Command {
+    /// Check every answer in a log against a document store (the main job).
+    Check(check::CheckArgs),
+    /// Run the check on the scenario shipped in demo/ and write its report.
+    Demo(demo::DemoArgs),
     /// ROUGE-1/2/L, BLEU and fuzzy similarity between two texts or a file of pairs.
     Score(score::ScoreArgs),
     /// Print the sentences plumbline sees in a text (JSON), for inspecting the splitter.
@@ -54,6 +60,8 @@ pub fn main() -> ExitCode {
         }
     };
     let result = match cli.command {
+        Command::Check(args) => check::execute(&args),
+        Command::Demo(args) => demo::execute(&args),
         Command::Score(args) => score::execute(&args),
         Command::Sentences(args) => sentences::execute(&args),
     };

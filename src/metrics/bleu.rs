@@ -69,8 +69,11 @@ fn is_python_space(c: char) -> bool {
     c.is_whitespace() || ('\u{1c}'..='\u{1f}').contains(&c)
 }
 
-/// Tokenises a line with the `13a` rules (mteval-v13a, as sacrebleu implements them).
+/// Tokenises a line with the `13a` rules (mteval-v13a, as sacrebleu implements them),
+/// after removing trailing white space as sacrebleu does to every segment first (so a
+/// final `-\n` is kept as a hyphen, not joined away).
 pub fn tokenize_13a(line: &str) -> Vec<String> {
+    let line = line.trim_end_matches(is_python_space);
     let mut s = line.replace("<skipped>", "").replace("-\n", "").replace('\n', " ");
     if s.contains('&') {
         s = s

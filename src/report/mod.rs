@@ -22,7 +22,10 @@ pub fn write_atomic(path: &Path, bytes: &[u8]) -> io::Result<()> {
         return out.flush();
     }
     let dir = path.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
-    let name = path.file_name().map(|n| n.to_string_lossy().into_owned()).unwrap_or_else(|| "output".into());
+    let name = path
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "output".into());
     let tmp = dir.join(format!(".{name}.plumbline-{}.tmp", std::process::id()));
     let result = (|| {
         let mut f = fs::File::create(&tmp)?;

@@ -1,7 +1,9 @@
 //! Snowball English ("Porter2") stemming, via the `rust-stemmers` crate.
 //!
 //! Stems let "closes", "closed" and "closing" meet. The algorithm is Snowball's English
-//! stemmer, checked word by word against the `snowballstemmer` PyPI package. Note that
+//! stemmer as of Snowball 2 (the version `rust-stemmers` implements), checked word by
+//! word against the `snowballstemmer` PyPI package 2.2.0; Snowball 3 revised a few
+//! hundred rare words ("added" → "add"), which plumbline does not follow yet. Note that
 //! the `rouge-score` package stems with NLTK's Porter stemmer instead, so stemmed ROUGE
 //! from plumbline differs from it by design.
 

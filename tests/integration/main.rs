@@ -4,8 +4,10 @@
 //! sentence-break conformance file, and worked examples from the papers
 //! that define the metrics.
 
+mod check;
 mod cli;
 mod common;
+mod harness;
 mod oracle_metrics;
 mod paper_examples;
 mod stemmer;
