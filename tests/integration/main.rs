@@ -5,6 +5,7 @@
 //! that define the metrics.
 
 mod check;
+mod confinement;
 mod cli;
 mod common;
 mod harness;
