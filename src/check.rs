@@ -87,33 +87,45 @@ pub fn severity_of(kind: &str) -> Severity {
     }
 }
 
-/// The sentences of `doc` (visible text) that overlap `passage`, clipped to it.
+/// The sentences of `doc` (visible text) that overlap `passage`, clipped to it. Whole
+/// sentences reuse the index's token ids; a sentence cut by the passage edge is tokenised
+/// again for the part inside.
 fn passage_units(ctx: &Context<'_>, doc: usize, passage: &Range<usize>) -> Vec<Unit> {
     let text = ctx.store.documents[doc].visible_text();
-    let ranges: Vec<Range<usize>> = ctx
-        .index
-        .sentences
-        .get(doc)
-        .map(|all| {
-            all.iter()
-                .filter(|s| s.end > passage.start && s.start < passage.end)
-                .map(|s| s.start.max(passage.start)..s.end.min(passage.end))
-                .filter(|s| {
-                    !s.is_empty() && text.is_char_boundary(s.start) && text.is_char_boundary(s.end)
-                })
-                .collect()
-        })
-        .unwrap_or_default();
-    support::units(text, &ranges)
+    let Some(ds) = ctx.index.docs.get(doc) else { return Vec::new() };
+    let mut out = Vec::new();
+    for (i, s) in ds.ranges.iter().enumerate() {
+        if s.end <= passage.start || s.start >= passage.end {
+            continue;
+        }
+        if s.start >= passage.start && s.end <= passage.end {
+            out.push(Unit {
+                range: s.clone(),
+                ids: ds.ids(i).to_vec(),
+                figures: ds.figures(i).cloned().collect(),
+            });
+        } else {
+            let r = s.start.max(passage.start)..s.end.min(passage.end);
+            if !r.is_empty() && text.is_char_boundary(r.start) && text.is_char_boundary(r.end) {
+                out.extend(support::units(text, &[r]));
+            }
+        }
+    }
+    out
 }
 
 /// Units around sentence `s` of `doc`: up to `w - 1` sentences on either side.
 fn units_around(ctx: &Context<'_>, doc: usize, s: usize, w: usize) -> Vec<Unit> {
-    let text = ctx.store.documents[doc].visible_text();
-    let all = &ctx.index.sentences[doc];
+    let ds = &ctx.index.docs[doc];
     let lo = s.saturating_sub(w.saturating_sub(1));
-    let hi = (s + w).min(all.len());
-    support::units(text, &all[lo..hi])
+    let hi = (s + w).min(ds.len());
+    (lo..hi)
+        .map(|i| Unit {
+            range: ds.ranges[i].clone(),
+            ids: ds.ids(i).to_vec(),
+            figures: ds.figures(i).cloned().collect(),
+        })
+        .collect()
 }
 
 /// A window match located in a document.
@@ -228,7 +240,9 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
                 continue;
             };
             let units = unit_cache.entry(ci).or_insert_with(|| passage_units(ctx, doc, &passage));
-            if let Some(m) = support::best_window(&claim, units, &p) {
+            if let Some(m) =
+                support::best_window(&claim, units, ctx.store.documents[doc].visible_text(), &p)
+            {
                 if best.as_ref().is_none_or(|(_, b)| m.score > b.m.score) {
                     best = Some((ci, locate(doc, units, m)));
                 }
@@ -274,7 +288,8 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
                     continue;
                 }
                 let units = units_around(ctx, hit.doc, hit.sentence, p.window_sentences);
-                let Some(m) = support::best_window(&claim, &units, &p) else { continue };
+                let text = ctx.store.documents[hit.doc].visible_text();
+                let Some(m) = support::best_window(&claim, &units, text, &p) else { continue };
                 let d = &ctx.store.documents[hit.doc];
                 let ent =
                     access::decide(groups, d.effective_access(ctx.store.default_access.as_deref()));

@@ -47,7 +47,8 @@ use regex::Regex;
 use crate::findings::{ChangedTerm, Verdict};
 use crate::metrics::fuzzy::token_similarity;
 use crate::metrics::rouge::lcs_len;
-use crate::text::tokens::{Token, tokenize};
+use crate::text::numbers::Figure;
+use crate::text::tokens::{Token, term_id, token_ids, tokenize};
 
 /// Scoring parameters (the `[thresholds]` and `[support]` config tables).
 #[derive(Debug, Clone, PartialEq)]
@@ -73,30 +74,25 @@ const W_COVERAGE: f64 = 0.55;
 const W_BIGRAM: f64 = 0.25;
 const W_ORDER: f64 = 0.20;
 
-/// One sentence of a passage with its tokens (offsets in the passage's text).
-#[derive(Debug, Clone)]
+/// One sentence of a passage: its byte range in the passage's text, its token ids and
+/// its figures (see [`crate::text::tokens::token_ids`]).
+#[derive(Debug, Clone, PartialEq)]
 pub struct Unit {
     /// Byte range of the sentence in the text it came from.
     pub range: Range<usize>,
-    /// Its tokens, offsets in the same text.
-    pub tokens: Vec<Token>,
+    /// Token ids, in order.
+    pub ids: Vec<u32>,
+    /// Figures of the sentence.
+    pub figures: Vec<Figure>,
 }
 
-/// Splits `ranges` of `text` into [`Unit`]s (tokenised sentences).
+/// Builds [`Unit`]s for `ranges` of `text` by tokenising them.
 pub fn units(text: &str, ranges: &[Range<usize>]) -> Vec<Unit> {
     ranges
         .iter()
         .map(|r| {
-            let mut tokens = tokenize(&text[r.clone()]);
-            for t in &mut tokens {
-                t.start += r.start;
-                t.end += r.start;
-                if let Some(f) = t.figure.as_mut() {
-                    f.start += r.start;
-                    f.end += r.start;
-                }
-            }
-            Unit { range: r.clone(), tokens }
+            let t = token_ids(&text[r.clone()]);
+            Unit { range: r.clone(), ids: t.ids, figures: t.figures }
         })
         .collect()
 }
@@ -316,6 +312,18 @@ fn is_synonym(a: &str, b: &str) -> bool {
     SYNONYMS.contains(&(a.to_owned(), b.to_owned()))
 }
 
+/// Ids of the listed synonyms of a stem.
+fn synonyms_of(stem: &str) -> &'static [u32] {
+    static BY_STEM: LazyLock<HashMap<String, Vec<u32>>> = LazyLock::new(|| {
+        let mut m: HashMap<String, Vec<u32>> = HashMap::new();
+        for (a, b) in SYNONYMS.iter() {
+            m.entry(a.clone()).or_default().push(term_id(b));
+        }
+        m
+    });
+    BY_STEM.get(stem).map_or(&[], Vec::as_slice)
+}
+
 /// The best window of a passage for a claim, with everything the checks found in it.
 #[derive(Debug, Clone, PartialEq)]
 pub struct WindowMatch {
@@ -337,86 +345,101 @@ pub struct WindowMatch {
     pub changed: Vec<ChangedTerm>,
 }
 
-/// Per-unit statistics of the claim's tokens, computed once per passage.
+/// Per-unit statistics of the claim's tokens.
 struct UnitStats {
     /// Credit (0..1) of each claim content token in this unit.
     credit: Vec<f64>,
     /// Which claim bigrams occur in this unit.
     bigrams: Vec<bool>,
-    /// Claim-stem ids of this unit's tokens that occur in the claim (for LCS).
+    /// Claim-local ids of this unit's tokens that occur in the claim (for LCS).
     ids: Vec<u32>,
 }
 
-/// Finds the best window of `units` for `claim`. `None` when `units` is empty or the
-/// claim has no tokens.
-pub fn best_window(claim: &Claim, units: &[Unit], p: &Params) -> Option<WindowMatch> {
+/// How many of the best windows by exact credit get fuzzy credit computed as well.
+const REFINE: usize = 3;
+
+/// Finds the best window of `units` (sentences of `text`) for `claim`. `None` when
+/// `units` is empty or the claim has no tokens.
+///
+/// Windows are first scored on exact credit (ids), which needs no strings; the best
+/// [`REFINE`] of them are then tokenised again and given fuzzy credit for claim words
+/// they lack, and the best of those wins.
+pub fn best_window(claim: &Claim, units: &[Unit], text: &str, p: &Params) -> Option<WindowMatch> {
     if units.is_empty() || claim.tokens.is_empty() {
         return None;
     }
     let content: Vec<&Token> = claim.tokens.iter().filter(|t| t.is_content()).collect();
-    let mut id_of: HashMap<&str, u32> = HashMap::new();
+    // Claim-local ids (dense), for bigrams and LCS.
+    let mut local: HashMap<u32, u32> = HashMap::new();
     for t in &claim.tokens {
-        let n = id_of.len() as u32;
-        id_of.entry(t.stem.as_str()).or_insert(n);
+        let n = local.len() as u32;
+        local.entry(t.id).or_insert(n);
     }
-    let claim_ids: Vec<u32> = claim.tokens.iter().map(|t| id_of[t.stem.as_str()]).collect();
-    let claim_bigrams: Vec<(u32, u32)> = claim_ids.windows(2).map(|w| (w[0], w[1])).collect();
+    let claim_local: Vec<u32> = claim.tokens.iter().map(|t| local[&t.id]).collect();
+    let claim_bigrams: Vec<(u32, u32)> = claim_local.windows(2).map(|w| (w[0], w[1])).collect();
+    // Which content tokens an id credits, and how much (exact stems 1, synonyms less).
+    let mut credits: HashMap<u32, Vec<(usize, f64)>> = HashMap::new();
+    for (k, c) in content.iter().enumerate() {
+        if c.figure.is_some() {
+            continue;
+        }
+        credits.entry(c.id).or_default().push((k, 1.0));
+        for syn in synonyms_of(&c.stem) {
+            credits.entry(*syn).or_default().push((k, SYNONYM_CREDIT));
+        }
+    }
 
     let stats: Vec<UnitStats> = units
         .iter()
         .map(|u| {
-            let stems: HashSet<&str> = u.tokens.iter().map(|t| t.stem.as_str()).collect();
-            let credit = content
-                .iter()
-                .map(|c| {
-                    if let Some(f) = &c.figure {
-                        let carried = u
-                            .tokens
-                            .iter()
-                            .any(|t| t.figure.as_ref().is_some_and(|g| f.is_carried_by(g)));
-                        return if carried { 1.0 } else { 0.0 };
+            let mut credit = vec![0.0f64; content.len()];
+            for id in &u.ids {
+                if let Some(list) = credits.get(id) {
+                    for &(k, c) in list {
+                        credit[k] = credit[k].max(c);
                     }
-                    if stems.contains(c.stem.as_str()) {
-                        return 1.0;
+                }
+            }
+            for (k, c) in content.iter().enumerate() {
+                if let Some(f) = &c.figure {
+                    if u.figures.iter().any(|g| f.is_carried_by(g)) {
+                        credit[k] = 1.0;
                     }
-                    if u.tokens.iter().any(|t| is_synonym(&c.stem, &t.stem)) {
-                        return SYNONYM_CREDIT;
+                }
+            }
+            let ids: Vec<u32> = u.ids.iter().filter_map(|i| local.get(i).copied()).collect();
+            let mut bigrams = vec![false; claim_bigrams.len()];
+            if !claim_bigrams.is_empty() {
+                for w in u.ids.windows(2) {
+                    if let (Some(&a), Some(&b)) = (local.get(&w[0]), local.get(&w[1])) {
+                        for (k, bg) in claim_bigrams.iter().enumerate() {
+                            if *bg == (a, b) {
+                                bigrams[k] = true;
+                            }
+                        }
                     }
-                    u.tokens
-                        .iter()
-                        .filter(|t| t.figure.is_none())
-                        .map(|t| token_similarity(&c.text, &t.text))
-                        .filter(|&s| s >= p.fuzzy_threshold)
-                        .fold(0.0, f64::max)
-                })
-                .collect();
-            let ids: Vec<u32> =
-                u.tokens.iter().filter_map(|t| id_of.get(t.stem.as_str()).copied()).collect();
-            let unit_pairs: HashSet<(u32, u32)> = u
-                .tokens
-                .windows(2)
-                .filter_map(|w| {
-                    Some((*id_of.get(w[0].stem.as_str())?, *id_of.get(w[1].stem.as_str())?))
-                })
-                .collect();
-            let bigrams = claim_bigrams.iter().map(|b| unit_pairs.contains(b)).collect();
+                }
+            }
             UnitStats { credit, bigrams, ids }
         })
         .collect();
 
-    let mut best: Option<(usize, usize, f64, f64)> = None;
+    let score_of = |coverage: f64, bigram: f64, order: f64| {
+        (W_COVERAGE * coverage + W_BIGRAM * bigram + W_ORDER * order).clamp(0.0, 1.0)
+    };
+    // Every window on exact credit: (first, last, credit per content token, bigram, order).
+    let mut scored: Vec<(usize, usize, Vec<f64>, f64, f64, f64)> = Vec::new();
     let wmax = p.window_sentences.max(1);
     for size in 1..=wmax.min(units.len()) {
         for first in 0..=units.len() - size {
             let win = &stats[first..first + size];
-            let coverage = if content.is_empty() {
-                0.0
-            } else {
-                (0..content.len())
-                    .map(|k| win.iter().map(|s| s.credit[k]).fold(0.0, f64::max))
-                    .sum::<f64>()
-                    / content.len() as f64
-            };
+            if win.iter().all(|s| s.ids.is_empty()) && !scored.is_empty() {
+                continue;
+            }
+            let credit: Vec<f64> = (0..content.len())
+                .map(|k| win.iter().map(|s| s.credit[k]).fold(0.0, f64::max))
+                .collect();
+            let coverage = mean(&credit);
             let bigram = if claim_bigrams.is_empty() {
                 coverage
             } else {
@@ -425,24 +448,60 @@ pub fn best_window(claim: &Claim, units: &[Unit], p: &Params) -> Option<WindowMa
                     / claim_bigrams.len() as f64
             };
             let seq: Vec<u32> = win.iter().flat_map(|s| s.ids.iter().copied()).collect();
-            let order = lcs_len(&claim_ids, &seq) as f64 / claim_ids.len() as f64;
-            let score =
-                (W_COVERAGE * coverage + W_BIGRAM * bigram + W_ORDER * order).clamp(0.0, 1.0);
-            let better = match best {
-                None => true,
-                Some((bf, bl, bs, _)) => {
-                    let margin = if size > bl - bf + 1 { 0.01 } else { 1e-12 };
-                    score > bs + margin
-                }
-            };
-            if better {
-                best = Some((first, first + size - 1, score, coverage));
-            }
+            let order = lcs_len(&claim_local, &seq) as f64 / claim_local.len() as f64;
+            let score = score_of(coverage, bigram, order);
+            scored.push((first, first + size - 1, credit, bigram, order, score));
         }
     }
-    let (first, last, score, coverage) = best?;
-    let window: Vec<&Token> = units[first..=last].iter().flat_map(|u| u.tokens.iter()).collect();
+    // The best few, smaller windows first among equals; a larger one must win by 0.01.
+    scored.sort_by(|a, b| {
+        b.5.total_cmp(&a.5).then((a.1 - a.0).cmp(&(b.1 - b.0))).then(a.0.cmp(&b.0))
+    });
+    scored.truncate(REFINE);
+
+    let mut best: Option<(usize, usize, f64, f64, Vec<Token>)> = None;
+    for (first, last, mut credit, bigram, order, _) in scored {
+        let start = units[first].range.start;
+        let wtext = &text[start..units[last].range.end];
+        let mut tokens = tokenize(wtext);
+        for t in &mut tokens {
+            t.start += start;
+            t.end += start;
+        }
+        // Fuzzy credit for words the window lacks (spelling variants, typos).
+        for (k, c) in content.iter().enumerate() {
+            if credit[k] >= 1.0 || c.figure.is_some() {
+                continue;
+            }
+            let n = c.text.chars().count();
+            let fuzzy = tokens
+                .iter()
+                .filter(|t| t.figure.is_none() && t.text.len().abs_diff(c.text.len()) <= 1 + n / 4)
+                .map(|t| token_similarity(&c.text, &t.text))
+                .filter(|&s| s >= p.fuzzy_threshold)
+                .fold(0.0, f64::max);
+            credit[k] = credit[k].max(fuzzy);
+        }
+        let coverage = mean(&credit);
+        let score = score_of(coverage, bigram, order);
+        let better = match &best {
+            None => true,
+            Some((bf, bl, bs, _, _)) => {
+                let margin = if last - first > bl - bf { 0.01 } else { 1e-12 };
+                score > bs + margin || (score > *bs - 1e-12 && last - first < bl - bf)
+            }
+        };
+        if better {
+            best = Some((first, last, score, coverage, tokens));
+        }
+    }
+    let (first, last, score, coverage, tokens) = best?;
+    let window: Vec<&Token> = tokens.iter().collect();
     Some(inspect(claim, &window, first, last, score, coverage, p))
+}
+
+fn mean(xs: &[f64]) -> f64 {
+    if xs.is_empty() { 0.0 } else { xs.iter().sum::<f64>() / xs.len() as f64 }
 }
 
 /// Runs the figure, polarity and changed-term checks of a claim against a window.
@@ -658,7 +717,7 @@ mod tests {
         let p = Params::default();
         let c = claim(claim_text);
         let us = units(passage, &split(passage));
-        let m = best_window(&c, &us, &p).expect("a window");
+        let m = best_window(&c, &us, passage, &p).expect("a window");
         (assess(&c, Some(&m), &p), m)
     }
 

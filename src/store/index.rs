@@ -7,8 +7,10 @@
 //! hashed to 64 bits, to an inverted index from term to sentence ids. A query ranks
 //! sentences by the summed inverse document frequency (IDF, in sentences) of the claim
 //! terms they contain and returns the best few, which the support scorer then examines
-//! with its full window score. Terms are hashed (SipHash-free FNV-1a, deterministic), so
-//! the index holds no strings.
+//! with its full window score. Terms are 32-bit ids of stems
+//! ([`crate::text::tokens::term_id`]), so the index holds no strings, and each
+//! document's sentences keep their token ids, so that windows are scored without
+//! tokenising documents again.
 //!
 //! The index is what lets plumbline say that a sentence is carried by a document other
 //! than the one it cites (`misattributed`) or by one the user may not read
@@ -18,15 +20,12 @@ use std::collections::HashMap;
 use std::ops::Range;
 
 use rayon::prelude::*;
-use unicode_segmentation::UnicodeSegmentation;
 
-use crate::text::normalize::normalize;
-use crate::text::numbers::find_figures;
+use crate::text::numbers::Figure;
 use crate::text::sentences::split;
-use crate::text::stem::stem;
-use crate::text::stopwords::is_stop_word;
+use crate::text::tokens::{TokenIds, token_ids};
 
-/// FNV-1a, 64-bit: a fixed, documented hash so that the index is the same on every run.
+/// FNV-1a, 64-bit: a fixed, documented hash (used for shards and ids).
 pub fn term_hash(term: &str) -> u64 {
     let mut h: u64 = 0xcbf2_9ce4_8422_2325;
     for b in term.bytes() {
@@ -36,26 +35,15 @@ pub fn term_hash(term: &str) -> u64 {
     h
 }
 
-/// The content terms of a text: stems of non-stop words and `#`-prefixed figure values,
-/// hashed, deduplicated and sorted.
-pub fn content_terms(text: &str) -> Vec<u64> {
-    let norm = normalize(text);
-    let mut terms: Vec<u64> = norm
-        .text
-        .unicode_words()
-        .filter(|w| !is_stop_word(w) && !w.bytes().all(|b| b.is_ascii_digit()))
-        .map(|w| term_hash(&stem(w)))
-        .collect();
-    if norm.text.bytes().any(|b| b.is_ascii_digit()) {
-        terms.extend(find_figures(&norm.text).iter().map(|f| term_hash(&format!("#{}", f.value))));
-    }
+/// The distinct content-token ids of a text, sorted: what a query looks up.
+pub fn content_terms(text: &str) -> Vec<u32> {
+    let t = token_ids(text);
+    let mut terms: Vec<u32> =
+        t.ids.iter().zip(&t.content).filter(|(_, c)| **c).map(|(i, _)| *i).collect();
     terms.sort_unstable();
     terms.dedup();
     terms
 }
-
-/// Sentence ranges of one document and the content terms of each sentence.
-type DocTerms = (Vec<Range<usize>>, Vec<Vec<u64>>);
 
 /// A sentence found by a query.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -68,30 +56,81 @@ pub struct Hit {
     pub weight: f64,
 }
 
-/// Sentence ranges of every document and the inverted index over them.
+/// The sentences of one document with their token ids.
+#[derive(Debug, Default, Clone)]
+pub struct DocSentences {
+    /// Byte ranges (visible text) of the sentences.
+    pub ranges: Vec<Range<usize>>,
+    /// Token ids of all sentences, concatenated.
+    ids: Vec<u32>,
+    /// Sentence `i` owns `ids[bounds[i]..bounds[i + 1]]`.
+    bounds: Vec<u32>,
+    /// Figures, with the sentence they belong to.
+    figures: Vec<(u32, Figure)>,
+}
+
+impl DocSentences {
+    /// Token ids of sentence `i`.
+    pub fn ids(&self, i: usize) -> &[u32] {
+        let (s, e) = (self.bounds[i] as usize, self.bounds[i + 1] as usize);
+        &self.ids[s..e]
+    }
+
+    /// Figures of sentence `i`.
+    pub fn figures(&self, i: usize) -> impl Iterator<Item = &Figure> {
+        let i = i as u32;
+        let from = self.figures.partition_point(|(s, _)| *s < i);
+        self.figures[from..].iter().take_while(move |(s, _)| *s == i).map(|(_, f)| f)
+    }
+
+    /// Number of sentences.
+    pub fn len(&self) -> usize {
+        self.ranges.len()
+    }
+
+    /// Whether there are none.
+    pub fn is_empty(&self) -> bool {
+        self.ranges.is_empty()
+    }
+}
+
+/// Sentences of every document and the inverted index over them.
 #[derive(Debug, Default)]
 pub struct Index {
-    /// Per document, the byte ranges (visible text) of its sentences.
-    pub sentences: Vec<Vec<Range<usize>>>,
+    /// Per document, its sentences.
+    pub docs: Vec<DocSentences>,
     /// Global sentence id → (document, sentence).
     owners: Vec<(u32, u32)>,
     /// Term → sorted global sentence ids.
-    postings: HashMap<u64, Vec<u32>>,
+    postings: HashMap<u32, Vec<u32>>,
+}
+
+fn analyse(text: &str) -> (DocSentences, Vec<Vec<u32>>) {
+    let ranges = split(text);
+    let mut d = DocSentences { bounds: vec![0], ..DocSentences::default() };
+    let mut terms = Vec::with_capacity(ranges.len());
+    for (i, r) in ranges.iter().enumerate() {
+        let TokenIds { ids, content, figures } = token_ids(&text[r.clone()]);
+        let mut t: Vec<u32> =
+            ids.iter().zip(&content).filter(|(_, c)| **c).map(|(x, _)| *x).collect();
+        t.sort_unstable();
+        t.dedup();
+        terms.push(t);
+        d.ids.extend_from_slice(&ids);
+        d.bounds.push(d.ids.len() as u32);
+        d.figures.extend(figures.into_iter().map(|f| (i as u32, f)));
+    }
+    d.ranges = ranges;
+    (d, terms)
 }
 
 impl Index {
     /// Builds the index over the visible texts of the documents, in parallel.
     pub fn build(texts: &[&str]) -> Index {
-        let per_doc: Vec<DocTerms> = texts
-            .par_iter()
-            .map(|text| {
-                let ranges = split(text);
-                let terms = ranges.iter().map(|r| content_terms(&text[r.clone()])).collect();
-                (ranges, terms)
-            })
-            .collect();
+        let per_doc: Vec<(DocSentences, Vec<Vec<u32>>)> =
+            texts.par_iter().map(|t| analyse(t)).collect();
         let mut index = Index::default();
-        for (d, (ranges, terms)) in per_doc.into_iter().enumerate() {
+        for (d, (doc, terms)) in per_doc.into_iter().enumerate() {
             for (s, ts) in terms.into_iter().enumerate() {
                 let id = index.owners.len() as u32;
                 index.owners.push((d as u32, s as u32));
@@ -99,7 +138,7 @@ impl Index {
                     index.postings.entry(t).or_default().push(id);
                 }
             }
-            index.sentences.push(ranges);
+            index.docs.push(doc);
         }
         index
     }
@@ -111,17 +150,20 @@ impl Index {
 
     /// The `limit` sentences sharing the most weight of `terms` (see [`content_terms`]),
     /// best first; ties broken by document and sentence order, so results are
-    /// deterministic.
-    pub fn query(&self, terms: &[u64], limit: usize) -> Vec<Hit> {
+    /// deterministic. Only the claim's rarest terms are looked up (at most
+    /// [`QUERY_TERMS`]), and terms found in more than a quarter of all sentences are
+    /// skipped: they say little and would make queries slow on large stores.
+    pub fn query(&self, terms: &[u32], limit: usize) -> Vec<Hit> {
         let n = self.owners.len().max(1) as f64;
+        let mut lists: Vec<&Vec<u32>> = terms
+            .iter()
+            .filter_map(|t| self.postings.get(t))
+            .filter(|l| l.len() as f64 <= (n / 4.0).max(50.0))
+            .collect();
+        lists.sort_by_key(|l| l.len());
+        lists.truncate(QUERY_TERMS);
         let mut acc: HashMap<u32, f64> = HashMap::new();
-        for t in terms {
-            let Some(list) = self.postings.get(t) else { continue };
-            // Smoothed IDF; terms in more than a quarter of all sentences say little and
-            // would make the query slow on large stores.
-            if list.len() as f64 > (n / 4.0).max(50.0) {
-                continue;
-            }
+        for list in lists {
             let idf = (1.0 + n / list.len() as f64).ln();
             for &id in list {
                 *acc.entry(id).or_insert(0.0) += idf;
@@ -142,6 +184,9 @@ impl Index {
     }
 }
 
+/// Most claim terms a query looks up (the rarest ones).
+pub const QUERY_TERMS: usize = 12;
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -155,6 +200,8 @@ mod tests {
         ];
         let idx = Index::build(&docs);
         assert_eq!(idx.sentence_count(), 6);
+        assert_eq!(idx.docs[1].ids(0).len(), 5); // claims stay open for "45 days"
+        assert_eq!(idx.docs[1].figures(0).map(|f| f.value.as_str()).collect::<Vec<_>>(), ["45"]);
         let hits = idx.query(&content_terms("How long do claims stay open? 45 days."), 3);
         assert_eq!((hits[0].doc, hits[0].sentence), (1, 0));
         let hits = idx.query(&content_terms("badges worn"), 1);

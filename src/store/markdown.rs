@@ -203,13 +203,13 @@ mod tests {
 
     #[test]
     fn escapes_and_entities_map_to_their_source() {
-        let raw = "A \\*star\\* &amp; AT&amp;T &lt;script&gt; &copy; 2024";
+        let raw = "A \\*star\\* &amp; L&amp;F &lt;script&gt; &copy; 2024";
         let ex = extract(Format::Markdown, raw);
-        assert_eq!(ex.text, "A *star* & AT&T <script> © 2024");
+        assert_eq!(ex.text, "A *star* & L&F <script> © 2024");
         words_map_back(raw, &ex);
         monotone(&ex, raw);
-        let i = ex.text.find("AT&T").unwrap();
-        assert_eq!(&raw[ex.map.to_file(i)..ex.map.to_file_end(i + 4)], "AT&amp;T");
+        let i = ex.text.find("L&F").unwrap();
+        assert_eq!(&raw[ex.map.to_file(i)..ex.map.to_file_end(i + 3)], "L&amp;F");
         let i = ex.text.find('*').unwrap();
         assert!(raw[ex.map.to_file(i)..ex.map.to_file_end(i + 1)].ends_with('*'));
     }

@@ -13,9 +13,11 @@
 //! second reproduces the `rouge-score` package exactly (lower-case, every run of
 //! characters outside `a-z0-9` separates).
 
+use std::collections::HashMap;
+
 use unicode_segmentation::UnicodeSegmentation;
 
-use super::normalize::{Normalized, normalize};
+use super::normalize::{Normalized, fold, normalize};
 use super::numbers::{Figure, find_figures};
 use super::stem::stem;
 use super::stopwords::is_stop_word;
@@ -27,6 +29,8 @@ pub struct Token {
     pub text: String,
     /// Snowball stem of `text` (equal to `text` for figures).
     pub stem: String,
+    /// [`term_id`] of `stem`: what windows are compared by.
+    pub id: u32,
     /// Byte range in the original text.
     pub start: usize,
     /// End of the byte range (exclusive).
@@ -44,6 +48,116 @@ impl Token {
     }
 }
 
+/// 32-bit id of a stem or figure value: the low half of its FNV-1a 64-bit hash.
+///
+/// Windows and the store index compare these ids instead of strings. Two different
+/// stems share an id with probability about 2^-32 per pair, which at worst credits one
+/// word of one claim wrongly; the exact stems are compared again when the best window is
+/// inspected.
+pub fn term_id(stem: &str) -> u32 {
+    let mut h: u64 = 0xcbf2_9ce4_8422_2325;
+    for b in stem.bytes() {
+        h ^= u64::from(b);
+        h = h.wrapping_mul(0x0100_0000_01b3);
+    }
+    h as u32
+}
+
+/// The stems seen so far on this thread, with their ids: stemming is the dearest step
+/// of tokenising, and the vocabulary of a store repeats.
+fn cached_stem_id(word: &str) -> u32 {
+    thread_local! {
+        static CACHE: std::cell::RefCell<HashMap<String, u32>> = std::cell::RefCell::new(HashMap::new());
+    }
+    CACHE.with(|c| {
+        let mut c = c.borrow_mut();
+        if let Some(&id) = c.get(word) {
+            return id;
+        }
+        if c.len() > 1 << 20 {
+            c.clear();
+        }
+        let id = term_id(&stem(word));
+        c.insert(word.to_owned(), id);
+        id
+    })
+}
+
+/// Word spans of normalised `text` at Unicode word boundaries (UAX #29), keeping only
+/// words with a letter or digit, as `unicode_word_indices` does.
+///
+/// Pure ASCII text takes a hand-written path that implements the UAX #29 rules that can
+/// apply to ASCII (WB5–WB13b: letters and digits join, `'` `.` `:` join two letters, `'`
+/// `.` `,` `;` join two digits, `_` joins anything word-like); it is tested equal to
+/// `unicode-segmentation` on random ASCII text. Other text goes to `unicode-segmentation`.
+pub fn word_spans(text: &str) -> Vec<(usize, usize)> {
+    if !text.is_ascii() {
+        return text.unicode_word_indices().map(|(i, w)| (i, i + w.len())).collect();
+    }
+    let b = text.as_bytes();
+    let is_word = |c: u8| c.is_ascii_alphanumeric() || c == b'_';
+    let mut out = Vec::new();
+    let mut i = 0;
+    while i < b.len() {
+        if !is_word(b[i]) {
+            i += 1;
+            continue;
+        }
+        let start = i;
+        loop {
+            while i < b.len() && is_word(b[i]) {
+                i += 1;
+            }
+            // A single middle character between two letters or two digits joins them.
+            if i + 1 < b.len() && i > start {
+                let (prev, mid, next) = (b[i - 1], b[i], b[i + 1]);
+                let letters = prev.is_ascii_alphabetic()
+                    && next.is_ascii_alphabetic()
+                    && matches!(mid, b'\'' | b'.' | b':');
+                let digits = prev.is_ascii_digit()
+                    && next.is_ascii_digit()
+                    && matches!(mid, b'\'' | b'.' | b',' | b';');
+                if letters || digits {
+                    i += 1;
+                    continue;
+                }
+            }
+            break;
+        }
+        if b[start..i].iter().any(u8::is_ascii_alphanumeric) {
+            out.push((start, i));
+        }
+    }
+    out
+}
+
+/// One item of a scanned text, in normalised coordinates.
+enum Item<'a> {
+    Word(usize, usize, &'a str),
+    Figure(Figure),
+}
+
+/// Figures and words of normalised text, in order, words inside a figure skipped.
+fn scan<'a>(text: &'a str, mut visit: impl FnMut(Item<'a>)) {
+    let has_alnum = text.bytes().any(|b| b.is_ascii_alphanumeric());
+    let figures = if has_alnum { find_figures(text) } else { Vec::new() };
+    let mut figures = figures.into_iter().peekable();
+    let mut covered = 0usize;
+    for (start, end) in word_spans(text) {
+        while let Some(f) = figures.next_if(|f| f.start < end) {
+            covered = covered.max(f.end);
+            visit(Item::Figure(f));
+        }
+        if start < covered {
+            continue;
+        }
+        visit(Item::Word(start, end, &text[start..end]));
+    }
+    for f in figures {
+        visit(Item::Figure(f));
+    }
+}
+
 /// Tokenises `original`; see the module documentation.
 pub fn tokenize(original: &str) -> Vec<Token> {
     let norm = normalize(original);
@@ -52,51 +166,66 @@ pub fn tokenize(original: &str) -> Vec<Token> {
 
 /// [`tokenize`] for text already normalised with [`normalize`].
 pub fn tokenize_normalized(norm: &Normalized) -> Vec<Token> {
-    let text = norm.text.as_str();
-    let figures = if text.bytes().any(|b| b.is_ascii_alphanumeric()) {
-        find_figures(text)
-    } else {
-        Vec::new()
-    };
-    let mut figures = figures.into_iter().peekable();
     let mut out = Vec::new();
-    // End (normalised coordinates) of the last figure emitted: words inside it are skipped.
-    let mut covered = 0usize;
-    let emit_figure = |f: Figure, out: &mut Vec<Token>| {
-        let r = norm.original_range(f.start, f.end);
-        let value = f.value.clone();
-        let figure = Figure { start: r.start, end: r.end, ..f };
-        out.push(Token {
-            stem: value.clone(),
-            text: value,
-            start: r.start,
-            end: r.end,
-            figure: Some(figure),
-            stop: false,
-        });
-    };
-    for (start, word) in text.unicode_word_indices() {
-        let end = start + word.len();
-        while let Some(f) = figures.next_if(|f| f.start < end) {
-            covered = covered.max(f.end);
-            emit_figure(f, &mut out);
+    scan(&norm.text, |item| match item {
+        Item::Figure(f) => {
+            let r = norm.original_range(f.start, f.end);
+            let value = f.value.clone();
+            out.push(Token {
+                id: term_id(&value),
+                stem: value.clone(),
+                text: value,
+                start: r.start,
+                end: r.end,
+                figure: Some(Figure { start: r.start, end: r.end, ..f }),
+                stop: false,
+            });
         }
-        if start < covered {
-            continue;
+        Item::Word(s, e, word) => {
+            let r = norm.original_range(s, e);
+            let st = stem(word);
+            out.push(Token {
+                id: term_id(&st),
+                text: word.to_owned(),
+                stem: st,
+                start: r.start,
+                end: r.end,
+                figure: None,
+                stop: is_stop_word(word),
+            });
         }
-        let r = norm.original_range(start, end);
-        out.push(Token {
-            text: word.to_owned(),
-            stem: stem(word),
-            start: r.start,
-            end: r.end,
-            figure: None,
-            stop: is_stop_word(word),
-        });
-    }
-    for f in figures {
-        emit_figure(f, &mut out);
-    }
+    });
+    out
+}
+
+/// The lean form of a text's tokens: ids in order, which of them are content tokens,
+/// and the figures (ranges in normalised coordinates). Equal, token for token, to the ids
+/// of [`tokenize`] — the store index is built with it.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct TokenIds {
+    /// [`Token::id`] of every token, in order.
+    pub ids: Vec<u32>,
+    /// [`Token::is_content`] of every token.
+    pub content: Vec<bool>,
+    /// The figures.
+    pub figures: Vec<Figure>,
+}
+
+/// [`tokenize`] without offsets or strings: ids, content flags and figures.
+pub fn token_ids(original: &str) -> TokenIds {
+    let folded = fold(original);
+    let mut out = TokenIds::default();
+    scan(&folded, |item| match item {
+        Item::Figure(f) => {
+            out.ids.push(term_id(&f.value));
+            out.content.push(true);
+            out.figures.push(f);
+        }
+        Item::Word(_, _, word) => {
+            out.ids.push(cached_stem_id(word));
+            out.content.push(!is_stop_word(word));
+        }
+    });
     out
 }
 
@@ -145,6 +274,43 @@ mod tests {
         let t = tokenize("30% of 1 200");
         assert_eq!(t.iter().map(|t| t.text.as_str()).collect::<Vec<_>>(), ["30", "of", "1200"]);
         assert!(t[0].figure.is_some() && t[2].figure.is_some());
+    }
+
+    #[test]
+    fn ascii_fast_path_equals_unicode_segmentation() {
+        // Oracle: unicode-segmentation's UAX #29 word boundaries, on random ASCII text
+        // built from the characters the fast path treats specially.
+        let alphabet = b"ab Z09_'.:,;-\"\n\t(!x";
+        let mut x: u64 = 0x2545_F491_4F6C_DD1D;
+        for _ in 0..20_000 {
+            let len = (x % 24) as usize;
+            let mut s = String::new();
+            for _ in 0..len {
+                x ^= x << 13;
+                x ^= x >> 7;
+                x ^= x << 17;
+                s.push(alphabet[(x % alphabet.len() as u64) as usize] as char);
+            }
+            x = x.wrapping_add(0x9E37_79B9);
+            let ours = word_spans(&s);
+            let theirs: Vec<(usize, usize)> =
+                s.unicode_word_indices().map(|(i, w)| (i, i + w.len())).collect();
+            assert_eq!(ours, theirs, "{s:?}");
+        }
+    }
+
+    #[test]
+    fn lean_ids_equal_full_tokens() {
+        for text in [
+            "Claims stay OPEN for forty-five days, from 4 March 2026.",
+            "Café prices: £12.40 (30%)",
+            "don't e.g. x_y 3.5",
+        ] {
+            let full: Vec<u32> = tokenize(text).iter().map(|t| t.id).collect();
+            let content: Vec<bool> = tokenize(text).iter().map(Token::is_content).collect();
+            let lean = token_ids(text);
+            assert_eq!((lean.ids, lean.content), (full, content), "{text}");
+        }
     }
 
     #[test]

@@ -38,7 +38,10 @@ impl Rng {
 }
 
 fn vocabulary(rng: &mut Rng, n: usize) -> Vec<String> {
-    let syll = ["ka", "lo", "mer", "tin", "sa", "vo", "rel", "dun", "pe", "ar", "ist", "on", "ble", "gra", "ch", "es"];
+    let syll = [
+        "ka", "lo", "mer", "tin", "sa", "vo", "rel", "dun", "pe", "ar", "ist", "on", "ble", "gra",
+        "ch", "es",
+    ];
     (0..n)
         .map(|_| {
             let k = 1 + rng.below(3);
@@ -105,15 +108,18 @@ fn write_answers(path: &Path, n: usize, rng: &mut Rng, docs: &[Vec<String>], voc
             let d = cited[c];
             let mut s = docs[d][rng.below(docs[d].len())].clone();
             match rng.below(6) {
-                0 => s = sentence(rng, vocab),                              // fabricated
-                1 => s = docs[rng.below(docs.len())][0].clone(),           // from another document
+                0 => s = sentence(rng, vocab),                   // fabricated
+                1 => s = docs[rng.below(docs.len())][0].clone(), // from another document
                 _ => {}
             }
             let s = s.trim_end_matches('.').to_owned();
             parts.push(format!("{s} [{}].", c + 1));
         }
-        let citations: Vec<serde_json::Value> =
-            cited.iter().enumerate().map(|(i, &d)| serde_json::json!({"ref": (i + 1).to_string(), "doc": doc_id(d)})).collect();
+        let citations: Vec<serde_json::Value> = cited
+            .iter()
+            .enumerate()
+            .map(|(i, &d)| serde_json::json!({"ref": (i + 1).to_string(), "doc": doc_id(d)}))
+            .collect();
         let line = serde_json::json!({"id": format!("a-{a}"), "groups": ["all"], "answer": parts.join(" "), "citations": citations});
         writeln!(f, "{line}").expect("write");
     }
@@ -122,7 +128,11 @@ fn write_answers(path: &Path, n: usize, rng: &mut Rng, docs: &[Vec<String>], voc
 fn peak_rss_mib() -> f64 {
     std::fs::read_to_string("/proc/self/status")
         .ok()
-        .and_then(|s| s.lines().find(|l| l.starts_with("VmHWM:")).and_then(|l| l.split_whitespace().nth(1)?.parse::<f64>().ok()))
+        .and_then(|s| {
+            s.lines()
+                .find(|l| l.starts_with("VmHWM:"))
+                .and_then(|l| l.split_whitespace().nth(1)?.parse::<f64>().ok())
+        })
         .map_or(0.0, |kb| kb / 1024.0)
 }
 
@@ -161,7 +171,14 @@ fn run_scale(docs: usize, answers: usize) {
         ReaderLimits::default(),
     );
     let list: Vec<_> = reader.filter_map(Result::ok).collect();
-    let ctx = Context { store: &store, index: &index, config: &config, principals: None, decisions: &[], redact_restricted: false };
+    let ctx = Context {
+        store: &store,
+        index: &index,
+        config: &config,
+        principals: None,
+        decisions: &[],
+        redact_restricted: false,
+    };
     let mut base = 0.0;
     for threads in [1usize, 2] {
         let pool = rayon::ThreadPoolBuilder::new().num_threads(threads).build().expect("pool");
@@ -172,7 +189,12 @@ fn run_scale(docs: usize, answers: usize) {
                 .map(|a| {
                     let c = check_answer(&ctx, a);
                     let n = c.findings.sentences.len();
-                    let u = c.findings.sentences.iter().filter(|s| s.verdict != plumbline::findings::Verdict::Supported).count();
+                    let u = c
+                        .findings
+                        .sentences
+                        .iter()
+                        .filter(|s| s.verdict != plumbline::findings::Verdict::Supported)
+                        .count();
                     (n, u)
                 })
                 .reduce(|| (0, 0), |x, y| (x.0 + y.0, x.1 + y.1))
@@ -190,7 +212,11 @@ fn run_scale(docs: usize, answers: usize) {
             rate / base
         );
     }
-    println!("peak RSS so far: {:.0} MiB (store text {:.0} MiB)", peak_rss_mib(), raw_bytes as f64 / 1048576.0);
+    println!(
+        "peak RSS so far: {:.0} MiB (store text {:.0} MiB)",
+        peak_rss_mib(),
+        raw_bytes as f64 / 1048576.0
+    );
 }
 
 fn main() {
