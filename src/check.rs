@@ -20,6 +20,7 @@
 //!    (the user may not);
 //! 6. findings are listed, reviewer decisions applied, and the gate decided.
 
+use std::borrow::Cow;
 use std::collections::HashMap;
 use std::ops::Range;
 
@@ -35,8 +36,8 @@ use crate::findings::{
 };
 use crate::metrics::{bleu, rouge};
 use crate::store::Store;
-use crate::store::index::{Index, content_terms};
-use crate::support::{self, Claim, Params, Unit, WindowMatch};
+use crate::store::index::{Hit, Index, content_terms};
+use crate::support::{self, Claim, Params, Scorer, Shortlist, Unit, WindowMatch};
 use crate::text::sentences;
 use crate::text::tokens::unicode_words;
 
@@ -90,7 +91,7 @@ pub fn severity_of(kind: &str) -> Severity {
 /// The sentences of `doc` (visible text) that overlap `passage`, clipped to it. Whole
 /// sentences reuse the index's token ids; a sentence cut by the passage edge is tokenised
 /// again for the part inside.
-fn passage_units(ctx: &Context<'_>, doc: usize, passage: &Range<usize>) -> Vec<Unit> {
+fn passage_units<'a>(ctx: &Context<'a>, doc: usize, passage: &Range<usize>) -> Vec<Unit<'a>> {
     let text = ctx.store.documents[doc].visible_text();
     let Some(ds) = ctx.index.docs.get(doc) else { return Vec::new() };
     let mut out = Vec::new();
@@ -101,8 +102,8 @@ fn passage_units(ctx: &Context<'_>, doc: usize, passage: &Range<usize>) -> Vec<U
         if s.start >= passage.start && s.end <= passage.end {
             out.push(Unit {
                 range: s.clone(),
-                ids: ds.ids(i).to_vec(),
-                figures: ds.figures(i).cloned().collect(),
+                ids: Cow::Borrowed(ds.ids(i)),
+                figures: Cow::Borrowed(ds.figures(i)),
             });
         } else {
             let r = s.start.max(passage.start)..s.end.min(passage.end);
@@ -114,18 +115,45 @@ fn passage_units(ctx: &Context<'_>, doc: usize, passage: &Range<usize>) -> Vec<U
     out
 }
 
-/// Units around sentence `s` of `doc`: up to `w - 1` sentences on either side.
-fn units_around(ctx: &Context<'_>, doc: usize, s: usize, w: usize) -> Vec<Unit> {
+/// Units `range` (sentence indices) of `doc`.
+fn doc_units<'a>(ctx: &Context<'a>, doc: usize, range: Range<usize>) -> Vec<Unit<'a>> {
     let ds = &ctx.index.docs[doc];
-    let lo = s.saturating_sub(w.saturating_sub(1));
-    let hi = (s + w).min(ds.len());
-    (lo..hi)
+    range
         .map(|i| Unit {
             range: ds.ranges[i].clone(),
-            ids: ds.ids(i).to_vec(),
-            figures: ds.figures(i).cloned().collect(),
+            ids: Cow::Borrowed(ds.ids(i)),
+            figures: Cow::Borrowed(ds.figures(i)),
         })
         .collect()
+}
+
+/// The store passages worth scoring for a claim: around each hit of the index, up to
+/// `w - 1` sentences on either side, with overlapping runs of one document merged, in
+/// document and sentence order.
+fn hit_passages(
+    ctx: &Context<'_>,
+    hits: &[Hit],
+    skip: &[usize],
+    w: usize,
+) -> Vec<(usize, Range<usize>)> {
+    let mut runs: Vec<(usize, Range<usize>)> = hits
+        .iter()
+        .filter(|h| !skip.contains(&h.doc))
+        .map(|h| {
+            let n = ctx.index.docs[h.doc].len();
+            let lo = h.sentence.saturating_sub(w.saturating_sub(1));
+            (h.doc, lo..(h.sentence + w).min(n))
+        })
+        .collect();
+    runs.sort_by_key(|(d, r)| (*d, r.start));
+    let mut merged: Vec<(usize, Range<usize>)> = Vec::new();
+    for (d, r) in runs {
+        match merged.last_mut() {
+            Some((ld, lr)) if *ld == d && r.start <= lr.end => lr.end = lr.end.max(r.end),
+            _ => merged.push((d, r)),
+        }
+    }
+    merged
 }
 
 /// A window match located in a document.
@@ -232,22 +260,27 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
         } else {
             (0..resolved.len()).collect()
         };
+        let scorer = Scorer::new(&claim);
         // Best window over the cited passages.
-        let mut best: Option<(usize, Located)> = None;
         for &ci in &candidates {
-            let (Some(doc), Some(passage)) = (resolved[ci].doc, resolved[ci].passage.clone())
-            else {
-                continue;
-            };
-            let units = unit_cache.entry(ci).or_insert_with(|| passage_units(ctx, doc, &passage));
-            if let Some(m) =
-                support::best_window(&claim, units, ctx.store.documents[doc].visible_text(), &p)
-            {
-                if best.as_ref().is_none_or(|(_, b)| m.score > b.m.score) {
-                    best = Some((ci, locate(doc, units, m)));
-                }
+            if let (Some(doc), Some(passage)) = (resolved[ci].doc, resolved[ci].passage.as_ref()) {
+                unit_cache.entry(ci).or_insert_with(|| passage_units(ctx, doc, passage));
             }
         }
+        let mut list = Shortlist::default();
+        for &ci in &candidates {
+            if let Some(units) = unit_cache.get(&ci) {
+                scorer.windows(ci, units, &p, &mut list);
+            }
+        }
+        let text_of =
+            |doc: Option<usize>| doc.map_or("", |d| ctx.store.documents[d].visible_text());
+        let best: Option<(usize, Located)> = scorer
+            .best(list, |ci| (unit_cache[&ci].as_slice(), text_of(resolved[ci].doc)), &p)
+            .and_then(|(ci, m)| {
+                let doc = resolved[ci].doc?;
+                Some((ci, locate(doc, &unit_cache[&ci], m)))
+            });
         let assessment = support::assess(&claim, best.as_ref().map(|(_, l)| &l.m), &p);
         if let Some((ci, loc)) = &best {
             if !claim.no_claim && loc.m.score >= p.partial {
@@ -281,24 +314,35 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
                 candidates.iter().filter_map(|&ci| resolved[ci].doc).collect();
             let cited_score = best.as_ref().map_or(0.0, |(_, l)| l.m.score);
             let margin = ctx.config.support.misattribution_margin;
-            let mut best_open: Option<Located> = None;
-            let mut best_closed: Option<Located> = None;
-            for hit in ctx.index.query(&content_terms(&piece.text), 8) {
-                if cited_docs.contains(&hit.doc) {
-                    continue;
-                }
-                let units = units_around(ctx, hit.doc, hit.sentence, p.window_sentences);
-                let text = ctx.store.documents[hit.doc].visible_text();
-                let Some(m) = support::best_window(&claim, &units, text, &p) else { continue };
-                let d = &ctx.store.documents[hit.doc];
+            let hits = ctx.index.query(&content_terms(&piece.text), 8);
+            let passages: Vec<(usize, Vec<Unit<'_>>)> =
+                hit_passages(ctx, &hits, &cited_docs, p.window_sentences)
+                    .into_iter()
+                    .map(|(doc, r)| (doc, doc_units(ctx, doc, r)))
+                    .collect();
+            let mut open = Shortlist::default();
+            let mut closed = Shortlist::default();
+            for (k, (doc, units)) in passages.iter().enumerate() {
+                let d = &ctx.store.documents[*doc];
                 let ent =
                     access::decide(groups, d.effective_access(ctx.store.default_access.as_deref()));
-                let slot =
-                    if ent == Entitlement::Forbidden { &mut best_closed } else { &mut best_open };
-                if slot.as_ref().is_none_or(|b| m.score > b.m.score) {
-                    *slot = Some(locate(hit.doc, &units, m));
-                }
+                let list = if ent == Entitlement::Forbidden { &mut closed } else { &mut open };
+                scorer.windows(k, units, &p, list);
             }
+            let pick = |list: Shortlist| {
+                scorer
+                    .best(
+                        list,
+                        |k| {
+                            let (doc, units) = &passages[k];
+                            (units.as_slice(), ctx.store.documents[*doc].visible_text())
+                        },
+                        &p,
+                    )
+                    .map(|(k, m)| locate(passages[k].0, &passages[k].1, m))
+            };
+            let best_open = pick(open);
+            let best_closed = pick(closed);
             if let Some(open) = best_open.filter(|o| {
                 o.m.score >= p.supported
                     && o.m.score >= cited_score + margin

@@ -38,6 +38,7 @@
 //! * `no_claim`: a sentence with no content words, a greeting or offer of help, a
 //!   question, or a Markdown heading has nothing to check.
 
+use std::borrow::Cow;
 use std::collections::{HashMap, HashSet};
 use std::ops::Range;
 use std::sync::LazyLock;
@@ -45,10 +46,10 @@ use std::sync::LazyLock;
 use regex::Regex;
 
 use crate::findings::{ChangedTerm, Verdict};
-use crate::metrics::fuzzy::token_similarity;
-use crate::metrics::rouge::lcs_len;
+use crate::metrics::fuzzy::similarity_at_least;
+use crate::metrics::rouge::LcsTable;
 use crate::text::numbers::Figure;
-use crate::text::tokens::{Token, term_id, token_ids, tokenize};
+use crate::text::tokens::{IdMap, Token, term_id, token_ids, tokenize};
 
 /// Scoring parameters (the `[thresholds]` and `[support]` config tables).
 #[derive(Debug, Clone, PartialEq)]
@@ -77,22 +78,22 @@ const W_ORDER: f64 = 0.20;
 /// One sentence of a passage: its byte range in the passage's text, its token ids and
 /// its figures (see [`crate::text::tokens::token_ids`]).
 #[derive(Debug, Clone, PartialEq)]
-pub struct Unit {
+pub struct Unit<'a> {
     /// Byte range of the sentence in the text it came from.
     pub range: Range<usize>,
     /// Token ids, in order.
-    pub ids: Vec<u32>,
+    pub ids: Cow<'a, [u32]>,
     /// Figures of the sentence.
-    pub figures: Vec<Figure>,
+    pub figures: Cow<'a, [Figure]>,
 }
 
 /// Builds [`Unit`]s for `ranges` of `text` by tokenising them.
-pub fn units(text: &str, ranges: &[Range<usize>]) -> Vec<Unit> {
+pub fn units(text: &str, ranges: &[Range<usize>]) -> Vec<Unit<'static>> {
     ranges
         .iter()
         .map(|r| {
             let t = token_ids(&text[r.clone()]);
-            Unit { range: r.clone(), ids: t.ids, figures: t.figures }
+            Unit { range: r.clone(), ids: Cow::Owned(t.ids), figures: Cow::Owned(t.figures) }
         })
         .collect()
 }
@@ -345,7 +346,8 @@ pub struct WindowMatch {
     pub changed: Vec<ChangedTerm>,
 }
 
-/// Per-unit statistics of the claim's tokens.
+/// Per-unit statistics of the claim's tokens (empty vectors: the unit shares nothing
+/// with the claim).
 struct UnitStats {
     /// Credit (0..1) of each claim content token in this unit.
     credit: Vec<f64>,
@@ -355,149 +357,311 @@ struct UnitStats {
     ids: Vec<u32>,
 }
 
+impl UnitStats {
+    fn is_empty(&self) -> bool {
+        self.credit.is_empty()
+    }
+}
+
 /// How many of the best windows by exact credit get fuzzy credit computed as well.
 const REFINE: usize = 3;
+
+/// A window scored on exact credit (ids only), not yet refined.
+#[derive(Debug, Clone)]
+pub struct Candidate {
+    /// The caller's tag for the passage the window is in.
+    pub tag: usize,
+    /// First unit of the window.
+    pub first: usize,
+    /// Last unit (inclusive).
+    pub last: usize,
+    credit: Vec<f64>,
+    bigram: f64,
+    order: f64,
+    /// Score on exact credit.
+    pub score: f64,
+}
+
+/// The best few candidates, best first: higher score, then the smaller window, then
+/// the earlier passage and position (a total order, so results are deterministic).
+#[derive(Debug, Clone, Default)]
+pub struct Shortlist {
+    items: Vec<Candidate>,
+}
+
+impl Shortlist {
+    fn before(a: &Candidate, b: &Candidate) -> bool {
+        let key = |c: &Candidate| (c.last - c.first, c.tag, c.first);
+        match a.score.total_cmp(&b.score) {
+            std::cmp::Ordering::Greater => true,
+            std::cmp::Ordering::Less => false,
+            std::cmp::Ordering::Equal => key(a) < key(b),
+        }
+    }
+
+    /// The score a new candidate must beat to enter (−∞ while there is room).
+    fn bar(&self) -> f64 {
+        if self.items.len() < REFINE { f64::NEG_INFINITY } else { self.items[REFINE - 1].score }
+    }
+
+    fn offer(&mut self, c: Candidate) {
+        if self.items.len() == REFINE && !Self::before(&c, &self.items[REFINE - 1]) {
+            return;
+        }
+        let at = self.items.iter().position(|x| Self::before(&c, x)).unwrap_or(self.items.len());
+        self.items.insert(at, c);
+        self.items.truncate(REFINE);
+    }
+
+    /// Whether nothing was offered.
+    pub fn is_empty(&self) -> bool {
+        self.items.is_empty()
+    }
+}
+
+/// What one id means to a claim.
+#[derive(Debug, Default)]
+struct Entry {
+    /// Dense local id ([`NOT_IN_CLAIM`] for a synonym that the claim does not contain).
+    local: u32,
+    /// Which content tokens it credits, and how much (exact stems 1, synonyms less).
+    credits: Vec<(usize, f64)>,
+}
+
+const NOT_IN_CLAIM: u32 = u32::MAX;
+
+/// A claim prepared for scoring against many windows: its dense local ids, bigrams,
+/// credit table and LCS masks are built once.
+pub struct Scorer<'c> {
+    claim: &'c Claim,
+    content: Vec<&'c Token>,
+    /// Per id of the claim or of a listed synonym: its local id and what it credits.
+    entries: IdMap<u32, Entry>,
+    claim_bigrams: Vec<(u32, u32)>,
+    has_figures: bool,
+    lcs: LcsTable,
+    /// Character counts of the content tokens (for the fuzzy length filter).
+    content_chars: Vec<usize>,
+}
+
+fn score_of(coverage: f64, bigram: f64, order: f64) -> f64 {
+    (W_COVERAGE * coverage + W_BIGRAM * bigram + W_ORDER * order).clamp(0.0, 1.0)
+}
+
+/// Whether two words are close enough in length for fuzzy credit to be possible.
+fn fuzzy_length_ok(a_chars: usize, a: &str, b: &str) -> bool {
+    a.len().abs_diff(b.len()) <= 1 + a_chars / 4
+}
+
+impl<'c> Scorer<'c> {
+    /// Prepares `claim`.
+    pub fn new(claim: &'c Claim) -> Scorer<'c> {
+        let content: Vec<&Token> = claim.tokens.iter().filter(|t| t.is_content()).collect();
+        let mut local: IdMap<u32, u32> = IdMap::default();
+        for t in &claim.tokens {
+            let n = local.len() as u32;
+            local.entry(t.id).or_insert(n);
+        }
+        let claim_local: Vec<u32> = claim.tokens.iter().map(|t| local[&t.id]).collect();
+        let claim_bigrams: Vec<(u32, u32)> = claim_local.windows(2).map(|w| (w[0], w[1])).collect();
+        let mut credits: IdMap<u32, Vec<(usize, f64)>> = IdMap::default();
+        for (k, c) in content.iter().enumerate() {
+            if c.figure.is_some() {
+                continue;
+            }
+            credits.entry(c.id).or_default().push((k, 1.0));
+            for syn in synonyms_of(&c.stem) {
+                credits.entry(*syn).or_default().push((k, SYNONYM_CREDIT));
+            }
+        }
+        let lcs = LcsTable::new(&claim_local, local.len());
+        let content_chars = content.iter().map(|c| c.text.chars().count()).collect();
+        let mut entries: IdMap<u32, Entry> = IdMap::default();
+        for (&id, &l) in &local {
+            entries.entry(id).or_default().local = l;
+        }
+        for (id, list) in credits {
+            let e = entries.entry(id).or_insert(Entry { local: NOT_IN_CLAIM, credits: Vec::new() });
+            e.credits = list;
+        }
+        let has_figures = content.iter().any(|c| c.figure.is_some());
+        Scorer { claim, content, entries, claim_bigrams, has_figures, lcs, content_chars }
+    }
+
+    fn stats(&self, u: &Unit<'_>) -> UnitStats {
+        let (nc, nb) = (self.content.len(), self.claim_bigrams.len());
+        let mut st = UnitStats { credit: Vec::new(), bigrams: Vec::new(), ids: Vec::new() };
+        let mut prev: Option<u32> = None;
+        for id in u.ids.iter() {
+            let Some(e) = self.entries.get(id) else {
+                prev = None;
+                continue;
+            };
+            if st.credit.is_empty() {
+                st.credit = vec![0.0; nc];
+                st.bigrams = vec![false; nb];
+            }
+            for &(k, c) in &e.credits {
+                st.credit[k] = st.credit[k].max(c);
+            }
+            if e.local == NOT_IN_CLAIM {
+                prev = None;
+                continue;
+            }
+            st.ids.push(e.local);
+            if let Some(a) = prev {
+                for (k, bg) in self.claim_bigrams.iter().enumerate() {
+                    if *bg == (a, e.local) {
+                        st.bigrams[k] = true;
+                    }
+                }
+            }
+            prev = Some(e.local);
+        }
+        if self.has_figures && !u.figures.is_empty() {
+            for (k, c) in self.content.iter().enumerate() {
+                if let Some(f) = &c.figure {
+                    if u.figures.iter().any(|g| f.is_carried_by(g)) {
+                        if st.credit.is_empty() {
+                            st.credit = vec![0.0; nc];
+                            st.bigrams = vec![false; nb];
+                        }
+                        st.credit[k] = 1.0;
+                    }
+                }
+            }
+        }
+        st
+    }
+
+    /// Scores every window of `units` (sentences of one passage, tagged `tag`) on exact
+    /// credit and offers them to `list`. Windows that share nothing with the claim are
+    /// skipped, but the first window of the first passage is always offered, so that a
+    /// claim with no support still gets a (zero) window to be shown against.
+    ///
+    /// The order component (an LCS) is only computed for windows whose upper bound
+    /// could still enter the shortlist.
+    pub fn windows(&self, tag: usize, units: &[Unit<'_>], p: &Params, list: &mut Shortlist) {
+        if units.is_empty() || self.claim.tokens.is_empty() {
+            return;
+        }
+        let stats: Vec<UnitStats> = units.iter().map(|u| self.stats(u)).collect();
+        let n_claim = self.claim.tokens.len() as f64;
+        let nb = self.claim_bigrams.len();
+        let wmax = p.window_sentences.max(1).min(units.len());
+        let mut credit = vec![0.0f64; self.content.len()];
+        for size in 1..=wmax {
+            for first in 0..=units.len() - size {
+                let win = &stats[first..first + size];
+                if win.iter().all(UnitStats::is_empty) && !list.is_empty() {
+                    continue;
+                }
+                credit.iter_mut().for_each(|c| *c = 0.0);
+                for s in win.iter().filter(|s| !s.is_empty()) {
+                    for (c, &x) in credit.iter_mut().zip(&s.credit) {
+                        *c = c.max(x);
+                    }
+                }
+                let coverage = mean(&credit);
+                let bigram = if nb == 0 {
+                    coverage
+                } else {
+                    (0..nb).filter(|&k| win.iter().any(|s| !s.is_empty() && s.bigrams[k])).count()
+                        as f64
+                        / nb as f64
+                };
+                let shared: usize = win.iter().map(|s| s.ids.len()).sum();
+                let bound = score_of(coverage, bigram, (shared as f64 / n_claim).min(1.0));
+                if bound < list.bar() {
+                    continue;
+                }
+                let order = self.lcs.len_with(win.iter().flat_map(|s| s.ids.iter().copied()))
+                    as f64
+                    / n_claim;
+                list.offer(Candidate {
+                    tag,
+                    first,
+                    last: first + size - 1,
+                    credit: credit.clone(),
+                    bigram,
+                    order,
+                    score: score_of(coverage, bigram, order),
+                });
+            }
+        }
+    }
+
+    /// Refines the shortlisted windows with fuzzy credit and inspects the best: its tag
+    /// and match. `passage(tag)` gives the units and the text a tag stands for.
+    pub fn best<'u>(
+        &self,
+        list: Shortlist,
+        passage: impl Fn(usize) -> (&'u [Unit<'u>], &'u str),
+        p: &Params,
+    ) -> Option<(usize, WindowMatch)> {
+        let mut best: Option<(usize, usize, usize, f64, f64, Vec<Token>)> = None;
+        for c in list.items {
+            let (units, text) = passage(c.tag);
+            let start = units[c.first].range.start;
+            let wtext = &text[start..units[c.last].range.end];
+            let mut tokens = tokenize(wtext);
+            for t in &mut tokens {
+                t.start += start;
+                t.end += start;
+            }
+            let mut credit = c.credit;
+            // Fuzzy credit for words the window lacks (spelling variants, typos).
+            for (k, w) in self.content.iter().enumerate() {
+                if credit[k] >= 1.0 || w.figure.is_some() {
+                    continue;
+                }
+                let fuzzy = tokens
+                    .iter()
+                    .filter(|t| {
+                        t.figure.is_none()
+                            && !t.stop
+                            && fuzzy_length_ok(self.content_chars[k], &w.text, &t.text)
+                    })
+                    .map(|t| similarity_at_least(&w.text, &t.text, p.fuzzy_threshold))
+                    .fold(0.0, f64::max);
+                credit[k] = credit[k].max(fuzzy);
+            }
+            let coverage = mean(&credit);
+            let score = score_of(coverage, c.bigram, c.order);
+            let better = match &best {
+                None => true,
+                Some((_, bf, bl, bs, _, _)) => {
+                    let margin = if c.last - c.first > bl - bf { 0.01 } else { 1e-12 };
+                    score > bs + margin || (score > *bs - 1e-12 && c.last - c.first < bl - bf)
+                }
+            };
+            if better {
+                best = Some((c.tag, c.first, c.last, score, coverage, tokens));
+            }
+        }
+        let (tag, first, last, score, coverage, tokens) = best?;
+        let window: Vec<&Token> = tokens.iter().collect();
+        Some((tag, inspect(self.claim, &window, first, last, score, coverage, p)))
+    }
+}
 
 /// Finds the best window of `units` (sentences of `text`) for `claim`. `None` when
 /// `units` is empty or the claim has no tokens.
 ///
 /// Windows are first scored on exact credit (ids), which needs no strings; the best
 /// [`REFINE`] of them are then tokenised again and given fuzzy credit for claim words
-/// they lack, and the best of those wins.
-pub fn best_window(claim: &Claim, units: &[Unit], text: &str, p: &Params) -> Option<WindowMatch> {
-    if units.is_empty() || claim.tokens.is_empty() {
-        return None;
-    }
-    let content: Vec<&Token> = claim.tokens.iter().filter(|t| t.is_content()).collect();
-    // Claim-local ids (dense), for bigrams and LCS.
-    let mut local: HashMap<u32, u32> = HashMap::new();
-    for t in &claim.tokens {
-        let n = local.len() as u32;
-        local.entry(t.id).or_insert(n);
-    }
-    let claim_local: Vec<u32> = claim.tokens.iter().map(|t| local[&t.id]).collect();
-    let claim_bigrams: Vec<(u32, u32)> = claim_local.windows(2).map(|w| (w[0], w[1])).collect();
-    // Which content tokens an id credits, and how much (exact stems 1, synonyms less).
-    let mut credits: HashMap<u32, Vec<(usize, f64)>> = HashMap::new();
-    for (k, c) in content.iter().enumerate() {
-        if c.figure.is_some() {
-            continue;
-        }
-        credits.entry(c.id).or_default().push((k, 1.0));
-        for syn in synonyms_of(&c.stem) {
-            credits.entry(*syn).or_default().push((k, SYNONYM_CREDIT));
-        }
-    }
-
-    let stats: Vec<UnitStats> = units
-        .iter()
-        .map(|u| {
-            let mut credit = vec![0.0f64; content.len()];
-            for id in &u.ids {
-                if let Some(list) = credits.get(id) {
-                    for &(k, c) in list {
-                        credit[k] = credit[k].max(c);
-                    }
-                }
-            }
-            for (k, c) in content.iter().enumerate() {
-                if let Some(f) = &c.figure {
-                    if u.figures.iter().any(|g| f.is_carried_by(g)) {
-                        credit[k] = 1.0;
-                    }
-                }
-            }
-            let ids: Vec<u32> = u.ids.iter().filter_map(|i| local.get(i).copied()).collect();
-            let mut bigrams = vec![false; claim_bigrams.len()];
-            if !claim_bigrams.is_empty() {
-                for w in u.ids.windows(2) {
-                    if let (Some(&a), Some(&b)) = (local.get(&w[0]), local.get(&w[1])) {
-                        for (k, bg) in claim_bigrams.iter().enumerate() {
-                            if *bg == (a, b) {
-                                bigrams[k] = true;
-                            }
-                        }
-                    }
-                }
-            }
-            UnitStats { credit, bigrams, ids }
-        })
-        .collect();
-
-    let score_of = |coverage: f64, bigram: f64, order: f64| {
-        (W_COVERAGE * coverage + W_BIGRAM * bigram + W_ORDER * order).clamp(0.0, 1.0)
-    };
-    // Every window on exact credit: (first, last, credit per content token, bigram, order).
-    let mut scored: Vec<(usize, usize, Vec<f64>, f64, f64, f64)> = Vec::new();
-    let wmax = p.window_sentences.max(1);
-    for size in 1..=wmax.min(units.len()) {
-        for first in 0..=units.len() - size {
-            let win = &stats[first..first + size];
-            if win.iter().all(|s| s.ids.is_empty()) && !scored.is_empty() {
-                continue;
-            }
-            let credit: Vec<f64> = (0..content.len())
-                .map(|k| win.iter().map(|s| s.credit[k]).fold(0.0, f64::max))
-                .collect();
-            let coverage = mean(&credit);
-            let bigram = if claim_bigrams.is_empty() {
-                coverage
-            } else {
-                (0..claim_bigrams.len()).filter(|&k| win.iter().any(|s| s.bigrams[k])).count()
-                    as f64
-                    / claim_bigrams.len() as f64
-            };
-            let seq: Vec<u32> = win.iter().flat_map(|s| s.ids.iter().copied()).collect();
-            let order = lcs_len(&claim_local, &seq) as f64 / claim_local.len() as f64;
-            let score = score_of(coverage, bigram, order);
-            scored.push((first, first + size - 1, credit, bigram, order, score));
-        }
-    }
-    // The best few, smaller windows first among equals; a larger one must win by 0.01.
-    scored.sort_by(|a, b| {
-        b.5.total_cmp(&a.5).then((a.1 - a.0).cmp(&(b.1 - b.0))).then(a.0.cmp(&b.0))
-    });
-    scored.truncate(REFINE);
-
-    let mut best: Option<(usize, usize, f64, f64, Vec<Token>)> = None;
-    for (first, last, mut credit, bigram, order, _) in scored {
-        let start = units[first].range.start;
-        let wtext = &text[start..units[last].range.end];
-        let mut tokens = tokenize(wtext);
-        for t in &mut tokens {
-            t.start += start;
-            t.end += start;
-        }
-        // Fuzzy credit for words the window lacks (spelling variants, typos).
-        for (k, c) in content.iter().enumerate() {
-            if credit[k] >= 1.0 || c.figure.is_some() {
-                continue;
-            }
-            let n = c.text.chars().count();
-            let fuzzy = tokens
-                .iter()
-                .filter(|t| t.figure.is_none() && t.text.len().abs_diff(c.text.len()) <= 1 + n / 4)
-                .map(|t| token_similarity(&c.text, &t.text))
-                .filter(|&s| s >= p.fuzzy_threshold)
-                .fold(0.0, f64::max);
-            credit[k] = credit[k].max(fuzzy);
-        }
-        let coverage = mean(&credit);
-        let score = score_of(coverage, bigram, order);
-        let better = match &best {
-            None => true,
-            Some((bf, bl, bs, _, _)) => {
-                let margin = if last - first > bl - bf { 0.01 } else { 1e-12 };
-                score > bs + margin || (score > *bs - 1e-12 && last - first < bl - bf)
-            }
-        };
-        if better {
-            best = Some((first, last, score, coverage, tokens));
-        }
-    }
-    let (first, last, score, coverage, tokens) = best?;
-    let window: Vec<&Token> = tokens.iter().collect();
-    Some(inspect(claim, &window, first, last, score, coverage, p))
+/// they lack, and the best of those wins. [`Scorer`] does the same over several
+/// passages at once.
+pub fn best_window(
+    claim: &Claim,
+    units: &[Unit<'_>],
+    text: &str,
+    p: &Params,
+) -> Option<WindowMatch> {
+    let scorer = Scorer::new(claim);
+    let mut list = Shortlist::default();
+    scorer.windows(0, units, p, &mut list);
+    scorer.best(list, |_| (units, text), p).map(|(_, m)| m)
 }
 
 fn mean(xs: &[f64]) -> f64 {
@@ -539,7 +703,8 @@ fn inspect(
                     || (w.figure.is_none()
                         && claim.tokens.iter().any(|c| {
                             c.is_content()
-                                && token_similarity(&c.text, &w.text) >= p.fuzzy_threshold
+                                && c.figure.is_none()
+                                && similarity_at_least(&c.text, &w.text, p.fuzzy_threshold) > 0.0
                         })))
         })
         .map(|w| w.start..w.end)
@@ -560,20 +725,26 @@ fn inspect(
 
 /// LCS alignment of claim and window stems: the matched index pairs.
 fn align(a: &[&Token], b: &[&Token], p: &Params) -> Vec<(usize, usize)> {
-    let same = |x: &Token, y: &Token| {
-        x.stem == y.stem
-            || (x.figure.is_some() && y.figure.is_some() && x.text == y.text)
-            || (x.figure.is_none()
-                && y.figure.is_none()
-                && !x.stop
-                && token_similarity(&x.text, &y.text) >= p.fuzzy_threshold.max(0.9))
-    };
     let (n, m) = (a.len(), b.len());
+    let fuzzy = p.fuzzy_threshold.max(0.9);
+    // Which pairs match, decided once (the table and the walk back both ask).
+    let mut eq = vec![false; n * m];
+    for (i, x) in a.iter().enumerate() {
+        for (j, y) in b.iter().enumerate() {
+            eq[i * m + j] = (x.id == y.id && x.stem == y.stem)
+                || (x.figure.is_some() && y.figure.is_some() && x.text == y.text)
+                || (x.figure.is_none()
+                    && y.figure.is_none()
+                    && !x.stop
+                    && similarity_at_least(&x.text, &y.text, fuzzy) > 0.0);
+        }
+    }
+    let same = |i: usize, j: usize| eq[i * m + j];
     let mut t = vec![0u32; (n + 1) * (m + 1)];
     let idx = |i: usize, j: usize| i * (m + 1) + j;
     for i in (0..n).rev() {
         for j in (0..m).rev() {
-            t[idx(i, j)] = if same(a[i], b[j]) {
+            t[idx(i, j)] = if same(i, j) {
                 t[idx(i + 1, j + 1)] + 1
             } else {
                 t[idx(i + 1, j)].max(t[idx(i, j + 1)])
@@ -583,7 +754,7 @@ fn align(a: &[&Token], b: &[&Token], p: &Params) -> Vec<(usize, usize)> {
     let mut pairs = Vec::new();
     let (mut i, mut j) = (0, 0);
     while i < n && j < m {
-        if same(a[i], b[j]) && t[idx(i, j)] == t[idx(i + 1, j + 1)] + 1 {
+        if same(i, j) && t[idx(i, j)] == t[idx(i + 1, j + 1)] + 1 {
             pairs.push((i, j));
             i += 1;
             j += 1;
@@ -644,7 +815,7 @@ fn align_checks(claim: &Claim, window: &[&Token], p: &Params) -> (bool, Vec<Chan
             let (x, y) = (ca[0], cb[0]);
             let related = x.stem == y.stem
                 || is_synonym(&x.stem, &y.stem)
-                || token_similarity(&x.text, &y.text) >= p.fuzzy_threshold;
+                || similarity_at_least(&x.text, &y.text, p.fuzzy_threshold) > 0.0;
             if !related {
                 changed.push(ChangedTerm { claim: x.text.clone(), evidence: y.text.clone() });
             }

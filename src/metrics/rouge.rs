@@ -118,6 +118,61 @@ pub fn lcs_len<T: Eq + Hash>(a: &[T], b: &[T]) -> usize {
     zeros
 }
 
+/// LCS lengths against one fixed sequence of small dense symbols (`0..alphabet`), with
+/// its match masks built once: the support scorer compares one claim with hundreds of
+/// windows. Same algorithm as [`lcs_len`] (tested equal).
+#[derive(Debug, Clone)]
+pub struct LcsTable {
+    blocks: usize,
+    /// `masks[sym * blocks + k]`: bits of the positions of `sym` in block `k`.
+    masks: Vec<u64>,
+    alphabet: usize,
+}
+
+impl LcsTable {
+    /// Prepares `a`, whose symbols must be below `alphabet`.
+    pub fn new(a: &[u32], alphabet: usize) -> LcsTable {
+        let blocks = a.len().div_ceil(64).max(1);
+        let mut masks = vec![0u64; alphabet * blocks];
+        for (i, &sym) in a.iter().enumerate() {
+            masks[sym as usize * blocks + i / 64] |= 1u64 << (i % 64);
+        }
+        LcsTable { blocks, masks, alphabet }
+    }
+
+    /// LCS length of the prepared sequence and `b`; symbols of `b` outside the alphabet
+    /// match nothing.
+    pub fn len_with(&self, b: impl IntoIterator<Item = u32>) -> usize {
+        if self.blocks == 1 {
+            let mut v = u64::MAX;
+            for sym in b {
+                if (sym as usize) < self.alphabet {
+                    let m = self.masks[sym as usize];
+                    let u = v & m;
+                    v = v.wrapping_add(u) | (v & !m);
+                }
+            }
+            return v.count_zeros() as usize;
+        }
+        let mut v = vec![u64::MAX; self.blocks];
+        for sym in b {
+            if (sym as usize) >= self.alphabet {
+                continue;
+            }
+            let m = &self.masks[sym as usize * self.blocks..(sym as usize + 1) * self.blocks];
+            let mut carry = 0u64;
+            for (vk, &mk) in v.iter_mut().zip(m) {
+                let u = *vk & mk;
+                let (s1, c1) = vk.overflowing_add(u);
+                let (s2, c2) = s1.overflowing_add(carry);
+                carry = u64::from(c1 || c2);
+                *vk = s2 | (*vk & !mk);
+            }
+        }
+        v.iter().map(|w| w.count_zeros() as usize).sum()
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -152,7 +207,13 @@ mod tests {
             let alphabet = 1 + (round % 7) as u64 * 3;
             let a: Vec<u32> = (0..la).map(|_| (next() % alphabet) as u32).collect();
             let b: Vec<u32> = (0..lb).map(|_| (next() % alphabet) as u32).collect();
-            assert_eq!(lcs_len(&a, &b), lcs_table(&a, &b), "a={a:?} b={b:?}");
+            let dp = lcs_table(&a, &b);
+            assert_eq!(lcs_len(&a, &b), dp, "a={a:?} b={b:?}");
+            // The prepared table, with symbols of b beyond a's alphabet ignored.
+            let t = LcsTable::new(&a, alphabet as usize);
+            assert_eq!(t.len_with(b.iter().copied()), dp, "a={a:?} b={b:?}");
+            let noisy: Vec<u32> = b.iter().flat_map(|&s| [s, 1_000]).collect();
+            assert_eq!(t.len_with(noisy.iter().copied()), dp);
         }
     }
 

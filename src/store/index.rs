@@ -16,14 +16,13 @@
 //! than the one it cites (`misattributed`) or by one the user may not read
 //! (`restricted_match`).
 
-use std::collections::HashMap;
 use std::ops::Range;
 
 use rayon::prelude::*;
 
 use crate::text::numbers::Figure;
 use crate::text::sentences::split;
-use crate::text::tokens::{TokenIds, token_ids};
+use crate::text::tokens::{IdMap, TokenIds, token_ids};
 
 /// FNV-1a, 64-bit: a fixed, documented hash (used for shards and ids).
 pub fn term_hash(term: &str) -> u64 {
@@ -65,8 +64,10 @@ pub struct DocSentences {
     ids: Vec<u32>,
     /// Sentence `i` owns `ids[bounds[i]..bounds[i + 1]]`.
     bounds: Vec<u32>,
-    /// Figures, with the sentence they belong to.
-    figures: Vec<(u32, Figure)>,
+    /// Figures of all sentences, concatenated.
+    figures: Vec<Figure>,
+    /// Sentence `i` owns `figures[figure_bounds[i]..figure_bounds[i + 1]]`.
+    figure_bounds: Vec<u32>,
 }
 
 impl DocSentences {
@@ -77,10 +78,9 @@ impl DocSentences {
     }
 
     /// Figures of sentence `i`.
-    pub fn figures(&self, i: usize) -> impl Iterator<Item = &Figure> {
-        let i = i as u32;
-        let from = self.figures.partition_point(|(s, _)| *s < i);
-        self.figures[from..].iter().take_while(move |(s, _)| *s == i).map(|(_, f)| f)
+    pub fn figures(&self, i: usize) -> &[Figure] {
+        let (s, e) = (self.figure_bounds[i] as usize, self.figure_bounds[i + 1] as usize);
+        &self.figures[s..e]
     }
 
     /// Number of sentences.
@@ -102,14 +102,14 @@ pub struct Index {
     /// Global sentence id → (document, sentence).
     owners: Vec<(u32, u32)>,
     /// Term → sorted global sentence ids.
-    postings: HashMap<u32, Vec<u32>>,
+    postings: IdMap<u32, Vec<u32>>,
 }
 
 fn analyse(text: &str) -> (DocSentences, Vec<Vec<u32>>) {
     let ranges = split(text);
-    let mut d = DocSentences { bounds: vec![0], ..DocSentences::default() };
+    let mut d = DocSentences { bounds: vec![0], figure_bounds: vec![0], ..DocSentences::default() };
     let mut terms = Vec::with_capacity(ranges.len());
-    for (i, r) in ranges.iter().enumerate() {
+    for r in &ranges {
         let TokenIds { ids, content, figures } = token_ids(&text[r.clone()]);
         let mut t: Vec<u32> =
             ids.iter().zip(&content).filter(|(_, c)| **c).map(|(x, _)| *x).collect();
@@ -118,7 +118,8 @@ fn analyse(text: &str) -> (DocSentences, Vec<Vec<u32>>) {
         terms.push(t);
         d.ids.extend_from_slice(&ids);
         d.bounds.push(d.ids.len() as u32);
-        d.figures.extend(figures.into_iter().map(|f| (i as u32, f)));
+        d.figures.extend(figures);
+        d.figure_bounds.push(d.figures.len() as u32);
     }
     d.ranges = ranges;
     (d, terms)
@@ -151,41 +152,57 @@ impl Index {
     /// The `limit` sentences sharing the most weight of `terms` (see [`content_terms`]),
     /// best first; ties broken by document and sentence order, so results are
     /// deterministic. Only the claim's rarest terms are looked up (at most
-    /// [`QUERY_TERMS`]), and terms found in more than a quarter of all sentences are
-    /// skipped: they say little and would make queries slow on large stores.
+    /// [`QUERY_TERMS`]), and terms more common than [`common_cap`] are skipped
+    /// unless nothing rarer is left: they say little and would make queries slow on
+    /// large stores.
     pub fn query(&self, terms: &[u32], limit: usize) -> Vec<Hit> {
-        let n = self.owners.len().max(1) as f64;
-        let mut lists: Vec<&Vec<u32>> = terms
-            .iter()
-            .filter_map(|t| self.postings.get(t))
-            .filter(|l| l.len() as f64 <= (n / 4.0).max(50.0))
-            .collect();
+        if limit == 0 {
+            return Vec::new();
+        }
+        let n = self.owners.len().max(1);
+        let mut lists: Vec<&Vec<u32>> = terms.iter().filter_map(|t| self.postings.get(t)).collect();
         lists.sort_by_key(|l| l.len());
-        lists.truncate(QUERY_TERMS);
-        let mut acc: HashMap<u32, f64> = HashMap::new();
+        let cap = common_cap(n);
+        let usable = lists.iter().take_while(|l| l.len() <= cap).count();
+        // A claim made only of common words still looks up its two rarest.
+        let keep = if usable == 0 { lists.len().min(2) } else { usable.min(QUERY_TERMS) };
+        lists.truncate(keep);
+        let mut acc: IdMap<u32, f64> = IdMap::default();
+        acc.reserve(lists.iter().map(|l| l.len()).sum::<usize>().min(1 << 16));
         for list in lists {
-            let idf = (1.0 + n / list.len() as f64).ln();
+            let idf = (1.0 + n as f64 / list.len() as f64).ln();
             for &id in list {
                 *acc.entry(id).or_insert(0.0) += idf;
             }
         }
-        let mut hits: Vec<Hit> = acc
-            .into_iter()
+        let mut hits: Vec<(u32, f64)> = acc.into_iter().collect();
+        // Best weight first, then sentence id (document order): a total order, so the
+        // partial selection below is deterministic.
+        let order = |a: &(u32, f64), b: &(u32, f64)| b.1.total_cmp(&a.1).then(a.0.cmp(&b.0));
+        if hits.len() > limit {
+            hits.select_nth_unstable_by(limit - 1, order);
+            hits.truncate(limit);
+        }
+        hits.sort_unstable_by(order);
+        hits.into_iter()
             .map(|(id, weight)| {
                 let (doc, sentence) = self.owners[id as usize];
                 Hit { doc: doc as usize, sentence: sentence as usize, weight }
             })
-            .collect();
-        hits.sort_by(|a, b| {
-            b.weight.total_cmp(&a.weight).then(a.doc.cmp(&b.doc)).then(a.sentence.cmp(&b.sentence))
-        });
-        hits.truncate(limit);
-        hits
+            .collect()
     }
 }
 
 /// Most claim terms a query looks up (the rarest ones).
 pub const QUERY_TERMS: usize = 12;
+
+/// Posting lists longer than this (for `n` sentences) are skipped by a query, unless a
+/// claim has no rarer term: 1% of the sentences, but at least 200. A term in one
+/// sentence of a hundred says little about which sentence carries a claim, and its list
+/// would dominate query time on a large store.
+pub fn common_cap(n: usize) -> usize {
+    (n / 100).max(200)
+}
 
 #[cfg(test)]
 mod tests {
@@ -201,7 +218,10 @@ mod tests {
         let idx = Index::build(&docs);
         assert_eq!(idx.sentence_count(), 6);
         assert_eq!(idx.docs[1].ids(0).len(), 5); // claims stay open for "45 days"
-        assert_eq!(idx.docs[1].figures(0).map(|f| f.value.as_str()).collect::<Vec<_>>(), ["45"]);
+        assert_eq!(
+            idx.docs[1].figures(0).iter().map(|f| f.value.as_str()).collect::<Vec<_>>(),
+            ["45"]
+        );
         let hits = idx.query(&content_terms("How long do claims stay open? 45 days."), 3);
         assert_eq!((hits[0].doc, hits[0].sentence), (1, 0));
         let hits = idx.query(&content_terms("badges worn"), 1);

@@ -14,6 +14,7 @@
 //! characters outside `a-z0-9` separates).
 
 use std::collections::HashMap;
+use std::hash::{BuildHasherDefault, Hasher};
 
 use unicode_segmentation::UnicodeSegmentation;
 
@@ -63,23 +64,67 @@ pub fn term_id(stem: &str) -> u32 {
     h as u32
 }
 
-/// The stems seen so far on this thread, with their ids: stemming is the dearest step
-/// of tokenising, and the vocabulary of a store repeats.
-fn cached_stem_id(word: &str) -> u32 {
+/// Hasher for keys that are already well spread (term ids are hashes; sentence ids
+/// are counters): one multiplication by the 64-bit golden-ratio constant mixes them
+/// into the high bits that the hash table probes with. Much cheaper than SipHash. Ids
+/// derive from text, so crafted text could collide them; that slows a lookup down but
+/// never changes a result.
+#[derive(Debug, Default, Clone, Copy)]
+pub struct IdHasher(u64);
+
+impl Hasher for IdHasher {
+    fn finish(&self) -> u64 {
+        self.0
+    }
+    fn write(&mut self, bytes: &[u8]) {
+        for &b in bytes {
+            self.0 = (self.0.rotate_left(8) ^ u64::from(b)).wrapping_mul(0x9E37_79B9_7F4A_7C15);
+        }
+    }
+    fn write_u32(&mut self, x: u32) {
+        self.0 = (self.0 ^ u64::from(x)).wrapping_mul(0x9E37_79B9_7F4A_7C15);
+    }
+    fn write_u64(&mut self, x: u64) {
+        self.0 = (self.0 ^ x).wrapping_mul(0x9E37_79B9_7F4A_7C15);
+    }
+    fn write_usize(&mut self, x: usize) {
+        self.write_u64(x as u64);
+    }
+}
+
+/// A hash map keyed by term or sentence ids, with [`IdHasher`].
+pub type IdMap<K, V> = HashMap<K, V, BuildHasherDefault<IdHasher>>;
+
+/// What tokenising needs to know of one word: its stem, the stem's id and whether the
+/// word is a stop word.
+#[derive(Debug, Clone)]
+struct WordInfo {
+    stem: String,
+    id: u32,
+    stop: bool,
+}
+
+/// Looks `word` up in this thread's cache of the words seen so far, adding it if new:
+/// stemming is the dearest step of tokenising, and the vocabulary of a store repeats.
+/// The cache is emptied when it passes a million words.
+fn with_word<R>(word: &str, f: impl FnOnce(&WordInfo) -> R) -> R {
     thread_local! {
-        static CACHE: std::cell::RefCell<HashMap<String, u32>> = std::cell::RefCell::new(HashMap::new());
+        static CACHE: std::cell::RefCell<HashMap<String, WordInfo>> =
+            std::cell::RefCell::new(HashMap::new());
     }
     CACHE.with(|c| {
         let mut c = c.borrow_mut();
-        if let Some(&id) = c.get(word) {
-            return id;
+        if let Some(info) = c.get(word) {
+            return f(info);
         }
         if c.len() > 1 << 20 {
             c.clear();
         }
-        let id = term_id(&stem(word));
-        c.insert(word.to_owned(), id);
-        id
+        let st = stem(word);
+        let info = WordInfo { id: term_id(&st), stem: st, stop: is_stop_word(word) };
+        let r = f(&info);
+        c.insert(word.to_owned(), info);
+        r
     })
 }
 
@@ -183,15 +228,15 @@ pub fn tokenize_normalized(norm: &Normalized) -> Vec<Token> {
         }
         Item::Word(s, e, word) => {
             let r = norm.original_range(s, e);
-            let st = stem(word);
+            let (stem, id, stop) = with_word(word, |w| (w.stem.clone(), w.id, w.stop));
             out.push(Token {
-                id: term_id(&st),
+                id,
                 text: word.to_owned(),
-                stem: st,
+                stem,
                 start: r.start,
                 end: r.end,
                 figure: None,
-                stop: is_stop_word(word),
+                stop,
             });
         }
     });
@@ -222,8 +267,9 @@ pub fn token_ids(original: &str) -> TokenIds {
             out.figures.push(f);
         }
         Item::Word(_, _, word) => {
-            out.ids.push(cached_stem_id(word));
-            out.content.push(!is_stop_word(word));
+            let (id, stop) = with_word(word, |w| (w.id, w.stop));
+            out.ids.push(id);
+            out.content.push(!stop);
         }
     });
     out
