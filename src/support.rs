@@ -600,14 +600,26 @@ impl<'c> Scorer<'c> {
         p: &Params,
     ) -> Option<(usize, WindowMatch)> {
         let mut best: Option<(usize, usize, usize, f64, f64, Vec<Token>)> = None;
+        // Shortlisted windows overlap; tokenise each sentence once.
+        let mut unit_tokens: HashMap<(usize, usize), Vec<Token>> = HashMap::new();
         for c in list.items {
             let (units, text) = passage(c.tag);
-            let start = units[c.first].range.start;
-            let wtext = &text[start..units[c.last].range.end];
-            let mut tokens = tokenize(wtext);
-            for t in &mut tokens {
-                t.start += start;
-                t.end += start;
+            let mut tokens: Vec<Token> = Vec::new();
+            for k in c.first..=c.last {
+                let toks = unit_tokens.entry((c.tag, k)).or_insert_with(|| {
+                    let r = units[k].range.clone();
+                    let mut t = tokenize(&text[r.clone()]);
+                    for x in &mut t {
+                        x.start += r.start;
+                        x.end += r.start;
+                        if let Some(f) = &mut x.figure {
+                            f.start += r.start;
+                            f.end += r.start;
+                        }
+                    }
+                    t
+                });
+                tokens.extend(toks.iter().cloned());
             }
             let mut credit = c.credit;
             // Fuzzy credit for words the window lacks (spelling variants, typos).
@@ -689,6 +701,13 @@ fn inspect(
     // Matched ranges for highlighting: exact stems or fuzzy credit.
     let claim_stems: HashSet<&str> =
         claim.tokens.iter().filter(|t| t.is_content()).map(|t| t.stem.as_str()).collect();
+    // Fuzzy credit only went to claim words the window lacks exactly.
+    let window_stems: HashSet<&str> = window.iter().map(|w| w.stem.as_str()).collect();
+    let fuzzy_claim: Vec<&Token> = claim
+        .tokens
+        .iter()
+        .filter(|c| c.is_content() && c.figure.is_none() && !window_stems.contains(c.stem.as_str()))
+        .collect();
     let matched: Vec<Range<usize>> = window
         .iter()
         .filter(|w| {
@@ -701,10 +720,8 @@ fn inspect(
                             .any(|c| c.figure.as_ref().is_some_and(|f| f.is_carried_by(g)))
                     })
                     || (w.figure.is_none()
-                        && claim.tokens.iter().any(|c| {
-                            c.is_content()
-                                && c.figure.is_none()
-                                && similarity_at_least(&c.text, &w.text, p.fuzzy_threshold) > 0.0
+                        && fuzzy_claim.iter().any(|c| {
+                            similarity_at_least(&c.text, &w.text, p.fuzzy_threshold) > 0.0
                         })))
         })
         .map(|w| w.start..w.end)
@@ -727,15 +744,20 @@ fn inspect(
 fn align(a: &[&Token], b: &[&Token], p: &Params) -> Vec<(usize, usize)> {
     let (n, m) = (a.len(), b.len());
     let fuzzy = p.fuzzy_threshold.max(0.9);
-    // Which pairs match, decided once (the table and the walk back both ask).
+    // Which pairs match, decided once (the table and the walk back both ask). Fuzzy
+    // matches are only sought between words that have no exact partner on the other
+    // side: a word present in both is aligned by its exact occurrence.
+    let ids_a: HashSet<u32> = a.iter().map(|t| t.id).collect();
+    let ids_b: HashSet<u32> = b.iter().map(|t| t.id).collect();
     let mut eq = vec![false; n * m];
     for (i, x) in a.iter().enumerate() {
+        let x_fuzzy = x.figure.is_none() && !x.stop && !ids_b.contains(&x.id);
         for (j, y) in b.iter().enumerate() {
             eq[i * m + j] = (x.id == y.id && x.stem == y.stem)
                 || (x.figure.is_some() && y.figure.is_some() && x.text == y.text)
-                || (x.figure.is_none()
+                || (x_fuzzy
                     && y.figure.is_none()
-                    && !x.stop
+                    && !ids_a.contains(&y.id)
                     && similarity_at_least(&x.text, &y.text, fuzzy) > 0.0);
         }
     }

@@ -366,126 +366,149 @@ pub fn find_figures(text: &str) -> Vec<Figure> {
         m.and_then(|m| m.as_str().replace([',', ' '], "").parse::<u32>().ok())
     };
 
-    for c in ISO_DATE.captures_iter(text) {
-        if let (Some(y), Some(mo), Some(d)) = (num(c.get(1)), num(c.get(2)), num(c.get(3))) {
-            if let Some(v) = date_value(Some(y), mo, Some(d)) {
-                let m = c.get(0).map_or(0..0, |m| m.range());
-                push(FigureKind::Date, v, m.start, m.end, 0);
+    // Every pattern but the spelled numbers needs a digit; most sentences have none.
+    if text.bytes().any(|b| b.is_ascii_digit()) {
+        for c in ISO_DATE.captures_iter(text) {
+            if let (Some(y), Some(mo), Some(d)) = (num(c.get(1)), num(c.get(2)), num(c.get(3))) {
+                if let Some(v) = date_value(Some(y), mo, Some(d)) {
+                    let m = c.get(0).map_or(0..0, |m| m.range());
+                    push(FigureKind::Date, v, m.start, m.end, 0);
+                }
             }
         }
-    }
-    for c in DAY_MONTH_YEAR.captures_iter(text) {
-        let month = c.get(2).and_then(|m| month_number(m.as_str()));
-        if let (Some(d), Some(mo)) = (num(c.get(1)), month) {
-            if let Some(v) = date_value(num(c.get(3)), mo, Some(d)) {
-                let m = c.get(0).map_or(0..0, |m| m.range());
-                push(FigureKind::Date, v, m.start, m.end, 0);
+        for c in DAY_MONTH_YEAR.captures_iter(text) {
+            let month = c.get(2).and_then(|m| month_number(m.as_str()));
+            if let (Some(d), Some(mo)) = (num(c.get(1)), month) {
+                if let Some(v) = date_value(num(c.get(3)), mo, Some(d)) {
+                    let m = c.get(0).map_or(0..0, |m| m.range());
+                    push(FigureKind::Date, v, m.start, m.end, 0);
+                }
             }
         }
-    }
-    for c in MONTH_DAY_YEAR.captures_iter(text) {
-        let month = c.get(1).and_then(|m| month_number(m.as_str()));
-        // "may 5" without a year is too often the verb; require the year for "may".
-        let is_may = c.get(1).is_some_and(|m| m.as_str() == "may");
-        if let (Some(mo), Some(d)) = (month, num(c.get(2))) {
-            if is_may && c.get(3).is_none() {
-                continue;
-            }
-            if let Some(v) = date_value(num(c.get(3)), mo, Some(d)) {
-                let m = c.get(0).map_or(0..0, |m| m.range());
-                push(FigureKind::Date, v, m.start, m.end, 0);
-            }
-        }
-    }
-    for c in MONTH_YEAR.captures_iter(text) {
-        let month = c.get(1).and_then(|m| month_number(m.as_str()));
-        if let (Some(mo), Some(y)) = (month, num(c.get(2))) {
-            if let Some(v) = date_value(Some(y), mo, None) {
-                let m = c.get(0).map_or(0..0, |m| m.range());
-                push(FigureKind::Date, v, m.start, m.end, 1);
+        for c in MONTH_DAY_YEAR.captures_iter(text) {
+            let month = c.get(1).and_then(|m| month_number(m.as_str()));
+            // "may 5" without a year is too often the verb; require the year for "may".
+            let is_may = c.get(1).is_some_and(|m| m.as_str() == "may");
+            if let (Some(mo), Some(d)) = (month, num(c.get(2))) {
+                if is_may && c.get(3).is_none() {
+                    continue;
+                }
+                if let Some(v) = date_value(num(c.get(3)), mo, Some(d)) {
+                    let m = c.get(0).map_or(0..0, |m| m.range());
+                    push(FigureKind::Date, v, m.start, m.end, 0);
+                }
             }
         }
-    }
-    let clock = |h: u32, mi: u32, mer: Option<&str>| -> Option<String> {
-        let h = match mer {
-            Some(_) if !(1..=12).contains(&h) => return None,
-            Some("a") => h % 12,
-            Some(_) => h % 12 + 12,
-            None => h,
+        for c in MONTH_YEAR.captures_iter(text) {
+            let month = c.get(1).and_then(|m| month_number(m.as_str()));
+            if let (Some(mo), Some(y)) = (month, num(c.get(2))) {
+                if let Some(v) = date_value(Some(y), mo, None) {
+                    let m = c.get(0).map_or(0..0, |m| m.range());
+                    push(FigureKind::Date, v, m.start, m.end, 1);
+                }
+            }
+        }
+        let clock = |h: u32, mi: u32, mer: Option<&str>| -> Option<String> {
+            let h = match mer {
+                Some(_) if !(1..=12).contains(&h) => return None,
+                Some("a") => h % 12,
+                Some(_) => h % 12 + 12,
+                None => h,
+            };
+            (h < 24 && mi < 60).then(|| format!("{h:02}:{mi:02}"))
         };
-        (h < 24 && mi < 60).then(|| format!("{h:02}:{mi:02}"))
-    };
-    for c in TIME_COLON.captures_iter(text) {
-        if let (Some(h), Some(mi)) = (num(c.get(1)), num(c.get(2))) {
-            if let Some(v) = clock(h, mi, c.get(3).map(|m| m.as_str())) {
-                let m = c.get(0).map_or(0..0, |m| m.range());
-                push(FigureKind::Time, v, m.start, m.end, 1);
+        for c in TIME_COLON.captures_iter(text) {
+            if let (Some(h), Some(mi)) = (num(c.get(1)), num(c.get(2))) {
+                if let Some(v) = clock(h, mi, c.get(3).map(|m| m.as_str())) {
+                    let m = c.get(0).map_or(0..0, |m| m.range());
+                    push(FigureKind::Time, v, m.start, m.end, 1);
+                }
             }
         }
-    }
-    for c in TIME_DOT_MERIDIEM.captures_iter(text) {
-        if let (Some(h), Some(mi)) = (num(c.get(1)), num(c.get(2))) {
-            if let Some(v) = clock(h, mi, c.get(3).map(|m| m.as_str())) {
-                let m = c.get(0).map_or(0..0, |m| m.range());
-                push(FigureKind::Time, v, m.start, m.end, 1);
+        for c in TIME_DOT_MERIDIEM.captures_iter(text) {
+            if let (Some(h), Some(mi)) = (num(c.get(1)), num(c.get(2))) {
+                if let Some(v) = clock(h, mi, c.get(3).map(|m| m.as_str())) {
+                    let m = c.get(0).map_or(0..0, |m| m.range());
+                    push(FigureKind::Time, v, m.start, m.end, 1);
+                }
             }
         }
-    }
-    for c in TIME_HOUR_MERIDIEM.captures_iter(text) {
-        if let Some(h) = num(c.get(1)) {
-            if let Some(v) = clock(h, 0, c.get(2).map(|m| m.as_str())) {
-                let m = c.get(0).map_or(0..0, |m| m.range());
-                push(FigureKind::Time, v, m.start, m.end, 1);
+        for c in TIME_HOUR_MERIDIEM.captures_iter(text) {
+            if let Some(h) = num(c.get(1)) {
+                if let Some(v) = clock(h, 0, c.get(2).map(|m| m.as_str())) {
+                    let m = c.get(0).map_or(0..0, |m| m.range());
+                    push(FigureKind::Time, v, m.start, m.end, 1);
+                }
             }
         }
-    }
-    let scaled = |n: &str, mult: Option<regex::Match<'_>>| {
-        let v = canonical_decimal(n);
-        match mult.and_then(|m| multiplier(m.as_str())) {
-            Some(k) => shift_decimal(&v, k),
-            None => v,
+        let scaled = |n: &str, mult: Option<regex::Match<'_>>| {
+            let v = canonical_decimal(n);
+            match mult.and_then(|m| multiplier(m.as_str())) {
+                Some(k) => shift_decimal(&v, k),
+                None => v,
+            }
+        };
+        for c in MONEY_SYMBOL.captures_iter(text) {
+            if let (Some(sym), Some(n)) = (c.get(1), c.get(2)) {
+                let code = currency_code(sym.as_str()).unwrap_or("USD");
+                let m = c.get(0).map_or(0..0, |m| m.range());
+                push(
+                    FigureKind::Money(code.into()),
+                    scaled(n.as_str(), c.get(3)),
+                    m.start,
+                    m.end,
+                    2,
+                );
+            }
         }
-    };
-    for c in MONEY_SYMBOL.captures_iter(text) {
-        if let (Some(sym), Some(n)) = (c.get(1), c.get(2)) {
-            let code = currency_code(sym.as_str()).unwrap_or("USD");
-            let m = c.get(0).map_or(0..0, |m| m.range());
-            push(FigureKind::Money(code.into()), scaled(n.as_str(), c.get(3)), m.start, m.end, 2);
+        for c in MONEY_CODE_BEFORE.captures_iter(text) {
+            if let (Some(code), Some(n)) =
+                (c.get(1).and_then(|m| currency_code(m.as_str())), c.get(2))
+            {
+                let m = c.get(0).map_or(0..0, |m| m.range());
+                push(
+                    FigureKind::Money(code.into()),
+                    scaled(n.as_str(), c.get(3)),
+                    m.start,
+                    m.end,
+                    2,
+                );
+            }
         }
-    }
-    for c in MONEY_CODE_BEFORE.captures_iter(text) {
-        if let (Some(code), Some(n)) = (c.get(1).and_then(|m| currency_code(m.as_str())), c.get(2))
-        {
-            let m = c.get(0).map_or(0..0, |m| m.range());
-            push(FigureKind::Money(code.into()), scaled(n.as_str(), c.get(3)), m.start, m.end, 2);
+        for c in MONEY_CODE_AFTER.captures_iter(text) {
+            if let (Some(n), Some(code)) =
+                (c.get(1), c.get(3).and_then(|m| currency_code(m.as_str())))
+            {
+                let m = c.get(0).map_or(0..0, |m| m.range());
+                push(
+                    FigureKind::Money(code.into()),
+                    scaled(n.as_str(), c.get(2)),
+                    m.start,
+                    m.end,
+                    2,
+                );
+            }
         }
-    }
-    for c in MONEY_CODE_AFTER.captures_iter(text) {
-        if let (Some(n), Some(code)) = (c.get(1), c.get(3).and_then(|m| currency_code(m.as_str())))
-        {
-            let m = c.get(0).map_or(0..0, |m| m.range());
-            push(FigureKind::Money(code.into()), scaled(n.as_str(), c.get(2)), m.start, m.end, 2);
+        for c in PERCENT.captures_iter(text) {
+            if let Some(n) = c.get(1) {
+                let m = c.get(0).map_or(0..0, |m| m.range());
+                push(FigureKind::Percent, canonical_decimal(n.as_str()), m.start, m.end, 3);
+            }
         }
-    }
-    for c in PERCENT.captures_iter(text) {
-        if let Some(n) = c.get(1) {
-            let m = c.get(0).map_or(0..0, |m| m.range());
-            push(FigureKind::Percent, canonical_decimal(n.as_str()), m.start, m.end, 3);
+        for m in VERSION.find_iter(text) {
+            push(FigureKind::Version, m.as_str().to_owned(), m.start(), m.end(), 4);
         }
-    }
-    for m in VERSION.find_iter(text) {
-        push(FigureKind::Version, m.as_str().to_owned(), m.start(), m.end(), 4);
-    }
-    for c in ORDINAL.captures_iter(text) {
-        if let Some(n) = c.get(1) {
-            let m = c.get(0).map_or(0..0, |m| m.range());
-            push(FigureKind::Number, canonical_decimal(n.as_str()), m.start, m.end, 5);
+        for c in ORDINAL.captures_iter(text) {
+            if let Some(n) = c.get(1) {
+                let m = c.get(0).map_or(0..0, |m| m.range());
+                push(FigureKind::Number, canonical_decimal(n.as_str()), m.start, m.end, 5);
+            }
         }
-    }
-    for c in PLAIN.captures_iter(text) {
-        if let Some(n) = c.get(1) {
-            let end = c.get(2).map_or(n.end(), |m| m.end());
-            push(FigureKind::Number, scaled(n.as_str(), c.get(2)), n.start(), end, 6);
+        for c in PLAIN.captures_iter(text) {
+            if let Some(n) = c.get(1) {
+                let end = c.get(2).map_or(n.end(), |m| m.end());
+                push(FigureKind::Number, scaled(n.as_str(), c.get(2)), n.start(), end, 6);
+            }
         }
     }
     for m in SPELLED.find_iter(text) {

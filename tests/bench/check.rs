@@ -10,7 +10,8 @@
 //! words drawn from an invented Zipf-distributed vocabulary with figures, and answers of
 //! 3–6 sentences with 1–4 citations each, about a third of the sentences not supported
 //! by what they cite (altered words or figures, or copied from another document), so the
-//! store search runs.
+//! store search runs. Three citations in four carry `start`/`end` offsets of an
+//! eight-sentence passage, as retrieval chunks do; the rest cite whole documents.
 
 use std::io::Write;
 use std::path::Path;
@@ -19,6 +20,7 @@ use std::time::Instant;
 use plumbline::answers::{AnswerReader, ReaderLimits};
 use plumbline::check::{Context, check_answer};
 use plumbline::config::Config;
+use plumbline::findings::CitationStatus;
 use plumbline::store::index::Index;
 use plumbline::store::{Store, StoreLimits};
 
@@ -96,17 +98,39 @@ fn doc_id(d: usize) -> String {
     format!("d{:03}/doc{d}.{ext}", d % 100)
 }
 
+/// A citation of the synthetic log: a document, and for three in four of them a passage
+/// of eight consecutive sentences (`start`/`end` byte offsets, as a retrieval chunk
+/// would be); the rest cite the whole document.
+struct Cite {
+    doc: usize,
+    sentences: std::ops::Range<usize>,
+    bytes: Option<(usize, usize)>,
+}
+
+fn cite(rng: &mut Rng, docs: &[Vec<String>]) -> Cite {
+    let doc = rng.below(docs.len());
+    let n = docs[doc].len();
+    if rng.below(4) == 0 || n <= 8 {
+        return Cite { doc, sentences: 0..n, bytes: None };
+    }
+    let lo = rng.below(n - 8);
+    // The file is the sentences joined by single spaces.
+    let offset = |k: usize| docs[doc][..k].iter().map(|s| s.len() + 1).sum::<usize>();
+    let (start, end) = (offset(lo), offset(lo + 8) - 1);
+    Cite { doc, sentences: lo..lo + 8, bytes: Some((start, end)) }
+}
+
 fn write_answers(path: &Path, n: usize, rng: &mut Rng, docs: &[Vec<String>], vocab: &[String]) {
     let mut f = std::io::BufWriter::new(std::fs::File::create(path).expect("answers"));
     for a in 0..n {
         let ncit = 1 + rng.below(4);
-        let cited: Vec<usize> = (0..ncit).map(|_| rng.below(docs.len())).collect();
+        let cited: Vec<Cite> = (0..ncit).map(|_| cite(rng, docs)).collect();
         let nsent = 3 + rng.below(4);
         let mut parts = Vec::new();
         for _ in 0..nsent {
             let c = rng.below(ncit);
-            let d = cited[c];
-            let mut s = docs[d][rng.below(docs[d].len())].clone();
+            let Cite { doc, sentences, .. } = &cited[c];
+            let mut s = docs[*doc][sentences.start + rng.below(sentences.len())].clone();
             match rng.below(6) {
                 0 => s = sentence(rng, vocab),                   // fabricated
                 1 => s = docs[rng.below(docs.len())][0].clone(), // from another document
@@ -118,7 +142,12 @@ fn write_answers(path: &Path, n: usize, rng: &mut Rng, docs: &[Vec<String>], voc
         let citations: Vec<serde_json::Value> = cited
             .iter()
             .enumerate()
-            .map(|(i, &d)| serde_json::json!({"ref": (i + 1).to_string(), "doc": doc_id(d)}))
+            .map(|(i, c)| match c.bytes {
+                Some((start, end)) => serde_json::json!({
+                    "ref": (i + 1).to_string(), "doc": doc_id(c.doc), "start": start, "end": end
+                }),
+                None => serde_json::json!({"ref": (i + 1).to_string(), "doc": doc_id(c.doc)}),
+            })
             .collect();
         let line = serde_json::json!({"id": format!("a-{a}"), "groups": ["all"], "answer": parts.join(" "), "citations": citations});
         writeln!(f, "{line}").expect("write");
@@ -183,7 +212,7 @@ fn run_scale(docs: usize, answers: usize) {
     for threads in [1usize, 2] {
         let pool = rayon::ThreadPoolBuilder::new().num_threads(threads).build().expect("pool");
         let t = Instant::now();
-        let (sentences, not_supported) = pool.install(|| {
+        let (sentences, not_supported, broken) = pool.install(|| {
             use rayon::prelude::*;
             list.par_iter()
                 .map(|a| {
@@ -195,10 +224,20 @@ fn run_scale(docs: usize, answers: usize) {
                         .iter()
                         .filter(|s| s.verdict != plumbline::findings::Verdict::Supported)
                         .count();
-                    (n, u)
+                    let broken = c
+                        .findings
+                        .citations
+                        .iter()
+                        .filter(|c| {
+                            matches!(c.status, CitationStatus::Dead | CitationStatus::BadLocator)
+                        })
+                        .count();
+                    (n, u, broken)
                 })
-                .reduce(|| (0, 0), |x, y| (x.0 + y.0, x.1 + y.1))
+                .reduce(|| (0, 0, 0), |x, y| (x.0 + y.0, x.1 + y.1, x.2 + y.2))
         });
+        // The generator's citations all resolve; a broken one would mean a broken bench.
+        assert_eq!(broken, 0, "synthetic citations must resolve");
         let secs = t.elapsed().as_secs_f64();
         let rate = list.len() as f64 / secs;
         if threads == 1 {
