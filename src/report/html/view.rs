@@ -237,6 +237,8 @@ pub struct SentenceView<'a> {
     pub changed: Vec<(&'a str, &'a str)>,
     /// Why the evidence names a document the sentence does not cite.
     pub elsewhere: Option<&'static str>,
+    /// Why the verdict is lower than the score alone would give.
+    pub lowered: Option<String>,
     pub evidence: Option<EvidenceView<'a>>,
     pub cited_evidence: Option<EvidenceView<'a>>,
 }
@@ -358,7 +360,7 @@ impl<'a> Page<'a> {
         let config: Config = serde_json::from_value(report.config.clone()).unwrap_or_default();
         let (settings, settings_default) = settings_tables(&report.config);
         let mut answers: Vec<AnswerView<'a>> =
-            report.answers.iter().enumerate().map(|(i, a)| answer_view(i, a)).collect();
+            report.answers.iter().enumerate().map(|(i, a)| answer_view(i, a, &config)).collect();
         answers.sort_by(worst_first);
         let breaches = breaches(report);
         Page {
@@ -730,10 +732,10 @@ fn tokens<'x>(names: impl Iterator<Item = &'x str>) -> String {
     set.into_iter().collect::<Vec<_>>().join(" ")
 }
 
-fn answer_view(i: usize, a: &AnswerFindings) -> AnswerView<'_> {
+fn answer_view<'a>(i: usize, a: &'a AnswerFindings, config: &Config) -> AnswerView<'a> {
     let anchor = format!("a{i}");
     let sentences: Vec<SentenceView<'_>> =
-        a.sentences.iter().map(|s| sentence_view(&anchor, a, s)).collect();
+        a.sentences.iter().map(|s| sentence_view(&anchor, a, s, config)).collect();
     let lowest = a
         .sentences
         .iter()
@@ -820,10 +822,45 @@ fn approved_view(a: &ApprovedComparison) -> ApprovedView {
     }
 }
 
+/// The note that explains a verdict below the score's band (a figure, polarity or term
+/// check lowered it), or none.
+fn lowered(s: &SentenceFindings, config: &Config) -> Option<String> {
+    let t = &config.thresholds;
+    let band = if s.score >= t.supported {
+        Verdict::Supported
+    } else if s.score >= t.partial {
+        Verdict::Partial
+    } else {
+        Verdict::Unsupported
+    };
+    if s.verdict == Verdict::NoClaim || s.verdict <= band {
+        return None;
+    }
+    let by: Vec<&str> = s
+        .flags
+        .iter()
+        .filter(|f| matches!(f, Flag::NumberMismatch | Flag::NegationMismatch | Flag::ChangedTerm))
+        .map(|f| f.as_str())
+        .collect();
+    let floor = if band == Verdict::Supported { t.supported } else { t.partial };
+    Some(format!(
+        "The score alone ({}, at or above {}) would make it {}; {}.",
+        num(s.score),
+        num(floor),
+        verdict_info(band).label,
+        if by.is_empty() {
+            "a check on the sentence lowered the verdict".to_owned()
+        } else {
+            format!("lowered by {}", by.join(", "))
+        }
+    ))
+}
+
 fn sentence_view<'a>(
     anchor: &str,
     a: &'a AnswerFindings,
     s: &'a SentenceFindings,
+    config: &Config,
 ) -> SentenceView<'a> {
     let info = verdict_info(s.verdict);
     // The sentence as logged (markers included), where its span is a valid range of the
@@ -854,6 +891,7 @@ fn sentence_view<'a>(
         figures: &s.figures,
         changed: s.changed_terms.iter().map(|t| (t.claim.as_str(), t.evidence.as_str())).collect(),
         elsewhere,
+        lowered: lowered(s, config),
         evidence: s.evidence.as_ref().map(evidence_view),
         cited_evidence: s.cited_evidence.as_ref().map(evidence_view),
     }
