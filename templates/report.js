@@ -82,7 +82,7 @@
   var url = null;
 
   function decisionFor(li, by, note) {
-    var d = { answer: li.getAttribute('data-answer') };
+    var d = { answer: li.closest('article.ans').getAttribute('data-id') };
     var sentence = li.getAttribute('data-sentence');
     if (sentence !== null) { d.sentence = Number(sentence); }
     var ref = li.getAttribute('data-ref');

@@ -92,7 +92,6 @@ pub struct GateView<'a> {
 pub struct CountRow {
     pub key: String,
     pub label: String,
-    pub glyph: &'static str,
     pub count: usize,
     pub share: String,
 }
@@ -228,7 +227,6 @@ pub struct SentenceView<'a> {
     pub n: usize,
     pub verdict: &'static str,
     pub label: &'static str,
-    pub glyph: &'static str,
     pub score: String,
     pub text: &'a str,
     pub refs: &'a [String],
@@ -320,7 +318,8 @@ pub struct StaleView<'a> {
     pub note: &'a str,
 }
 
-/// How the page names and marks a verdict: label, glyph, and the greyscale pattern.
+/// How the page names and marks a verdict: label, symbol (drawn by the stylesheet
+/// before every verdict tag), and the greyscale pattern.
 pub fn verdict_info(v: Verdict) -> VerdictInfo {
     match v {
         Verdict::Supported => VerdictInfo {
@@ -555,12 +554,10 @@ fn summary_view(report: &Report, config: &Config) -> SummaryView {
     let verdicts: Vec<CountRow> = Verdict::ALL
         .into_iter()
         .map(|v| {
-            let info = verdict_info(v);
             let n = count(&s.verdicts, v.as_str());
             CountRow {
                 key: v.as_str().into(),
-                label: info.label.into(),
-                glyph: info.glyph,
+                label: verdict_info(v).label.into(),
                 count: n,
                 share: percent(n, sentences),
             }
@@ -573,7 +570,6 @@ fn summary_view(report: &Report, config: &Config) -> SummaryView {
             CountRow {
                 key: st.as_str().into(),
                 label: st.as_str().replace('_', " "),
-                glyph: "",
                 count: n,
                 share: percent(n, citations_total),
             }
@@ -586,7 +582,6 @@ fn summary_view(report: &Report, config: &Config) -> SummaryView {
             CountRow {
                 key: f.as_str().into(),
                 label: f.as_str().replace('_', " "),
-                glyph: "",
                 count: n,
                 share: percent(n, sentences),
             }
@@ -883,7 +878,6 @@ fn sentence_view<'a>(
         n: s.index + 1,
         verdict: s.verdict.as_str(),
         label: info.label,
-        glyph: info.glyph,
         score: if s.verdict == Verdict::NoClaim { "–".into() } else { num(s.score) },
         text,
         refs: &s.refs,
