@@ -233,7 +233,8 @@ pub struct SentenceView<'a> {
     pub flags: Vec<&'static str>,
     pub figures: &'a [String],
     pub changed: Vec<(&'a str, &'a str)>,
-    /// Why the evidence names a document the sentence does not cite.
+    /// Why the evidence needs a warning: it names a document the sentence does not cite
+    /// (`misattributed`, `restricted_match`), or one the user may not read (`forbidden`).
     pub elsewhere: Option<&'static str>,
     /// Why the verdict is lower than the score alone would give.
     pub lowered: Option<String>,
@@ -866,10 +867,15 @@ fn sentence_view<'a>(
         .map(str::trim)
         .filter(|t| !t.is_empty())
         .unwrap_or(&s.text);
+    let forbidden_doc = |doc: &str| {
+        a.citations.iter().any(|c| c.status == CitationStatus::Forbidden && c.doc == doc)
+    };
     let elsewhere = if s.flags.contains(&Flag::RestrictedMatch) {
         Some("restricted_match")
     } else if s.flags.contains(&Flag::Misattributed) {
         Some("misattributed")
+    } else if s.evidence.as_ref().is_some_and(|e| forbidden_doc(&e.doc)) {
+        Some("forbidden")
     } else {
         None
     };
