@@ -2,7 +2,7 @@
 //! decisions and prints for sign-off.
 //!
 //! The page is `templates/report.html` rendered by minijinja from the view model in
-//! [`view`]; its stylesheet and script (`templates/report.css`, `templates/report.js`) are
+//! `view`; its stylesheet and script (`templates/report.css`, `templates/report.js`) are
 //! embedded in the binary with `include_str!` and inlined, so the file opens from disk
 //! with no network. Every string of the report reaches the page through the template's
 //! HTML auto-escaping (the template is named `.html`, undefined values are errors), and

@@ -489,3 +489,39 @@ fn bad_spans_in_evidence_do_not_break_the_page() {
     let quote = page.select(&sel("#a0-s0 blockquote")).next().map(text).unwrap_or_default();
     assert_eq!(quote, "£12.40 — déjà vu");
 }
+
+#[test]
+fn demo_answers_repeated_to_ten_thousand_stay_under_40_mb() {
+    let mut report: Report = serde_json::from_value(demo().findings).expect("findings as a Report");
+    let one = std::mem::take(&mut report.answers);
+    report.answers = (0..10_000)
+        .map(|i| {
+            let mut a = one[i % one.len()].clone();
+            a.id = format!("{}-{i:05}", a.id);
+            a
+        })
+        .collect();
+    let html = plumbline::report::html::render(&report).expect("render");
+    eprintln!("demo answers ×{}: {:.1} MB", 10_000 / one.len(), html.len() as f64 / 1e6);
+    assert!(html.len() < 40_000_000, "{:.1} MB", html.len() as f64 / 1e6);
+}
+
+#[test]
+fn the_page_checks_find_what_they_look_for() {
+    // Controls for the checks above: each problem they look for is found when present.
+    let bad = Html::parse_document(
+        "<!DOCTYPE html><html><head><title>t</title></head><body>\
+         <p id=a>1</p><p id=a>2</p><a href=\"#nowhere\">x</a><a href=\"https://example.org\">y</a>\
+         <table><tr><td>1</td></tr><div>misplaced</div></table>\
+         <img src=x onerror=alert(1)><span style=\"color:red\">z</span></body></html>",
+    );
+    let p = structure_problems(&bad);
+    for want in ["parse error", "duplicate id \"a\"", "missing #nowhere", "leaves the page"] {
+        assert!(p.iter().any(|x| x.contains(want)), "{want:?} not found in {p:#?}");
+    }
+    let p = safety_problems(&bad);
+    for want in ["script elements", "img element", "has attribute onerror", "has attribute style"] {
+        assert!(p.iter().any(|x| x.contains(want)), "{want:?} not found in {p:#?}");
+    }
+    assert!(p.iter().any(|x| x.contains("no strict Content-Security-Policy")), "{p:#?}");
+}
