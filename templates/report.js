@@ -18,8 +18,22 @@
   var preview = doc.getElementById('decision-preview');
   tools.hidden = false;
 
-  // Text of each answer for the text filter, taken before any control is added.
-  var texts = answers.map(function (a) { return a.textContent.toLowerCase(); });
+  // Text of each answer for the text filter, built at the first text search (the
+  // script's own controls, class ctl, are left out).
+  var texts = null;
+  function textOf(root) {
+    var walker = doc.createTreeWalker(root, NodeFilter.SHOW_ELEMENT | NodeFilter.SHOW_TEXT, {
+      acceptNode: function (n) {
+        return n.nodeType === 1 && n.classList.contains('ctl') ?
+          NodeFilter.FILTER_REJECT : NodeFilter.FILTER_ACCEPT;
+      }
+    });
+    var parts = [];
+    while (walker.nextNode()) {
+      if (walker.currentNode.nodeType === 3) { parts.push(walker.currentNode.data); }
+    }
+    return parts.join('').toLowerCase();
+  }
 
   function has(el, attr, token) {
     return (' ' + (el.getAttribute(attr) || '') + ' ').indexOf(' ' + token + ' ') >= 0;
@@ -33,6 +47,7 @@
     var q = form.elements.q.value.trim().toLowerCase();
     var failing = form.elements.failing.checked;
     var n = 0;
+    if (q && !texts) { texts = answers.map(textOf); }
     answers.forEach(function (a, i) {
       var ok = (!verdict || has(a, 'data-v', verdict)) &&
         (!flag || has(a, 'data-f', flag)) &&
@@ -40,7 +55,7 @@
         (!user || a.getAttribute('data-u') === user) &&
         (!failing || a.getAttribute('data-pass') === '0') &&
         (!q || texts[i].indexOf(q) >= 0);
-      a.hidden = !ok;
+      if (a.hidden === ok) { a.hidden = !ok; }
       if (ok) { n += 1; }
     });
     shown.textContent = 'Showing ' + n + ' of ' + answers.length + ' answers.';
@@ -50,7 +65,7 @@
   form.addEventListener('change', apply);
   form.addEventListener('submit', function (e) { e.preventDefault(); });
   form.addEventListener('reset', function () { window.setTimeout(apply, 0); });
-  apply();
+  shown.textContent = 'Showing all ' + answers.length + ' answers.';
 
   // Keyboard: j and k step through the findings of the answers shown.
   function step(delta) {
@@ -178,14 +193,18 @@
     refresh();
   }
 
-  answers.forEach(function (a) {
-    Array.prototype.forEach.call(a.querySelectorAll('li.finding'), function (li) {
-      if (li.hasAttribute('data-accepted')) { return; }
+  // An accept button on every finding not yet accepted, added in slices so that a
+  // page of many thousands of answers opens at once.
+  var pending = Array.prototype.slice.call(doc.querySelectorAll('li.finding:not([data-accepted])'));
+  function addButtons(count) {
+    pending.splice(0, count).forEach(function (li) {
       var b = el('button', 'ctl acc-btn', 'Accept…');
       b.type = 'button';
       li.appendChild(b);
     });
-  });
+    if (pending.length) { window.setTimeout(function () { addButtons(500); }, 0); }
+  }
+  addButtons(500);
   doc.getElementById('answers').addEventListener('click', function (e) {
     var t = e.target;
     if (!t.closest) { return; }
@@ -212,6 +231,7 @@
   });
 
   function selftest() {
+    addButtons(pending.length);
     var r = { answers: answers.length, findings: doc.querySelectorAll('li.finding').length };
     function only(name, value) {
       form.reset();
