@@ -525,3 +525,21 @@ fn the_page_checks_find_what_they_look_for() {
     }
     assert!(p.iter().any(|x| x.contains("no strict Content-Security-Policy")), "{p:#?}");
 }
+
+#[test]
+fn long_evidence_is_folded_but_complete() {
+    let mut report = synthetic_report(2);
+    let long = "Warranty claims stay open for 45 days. ".repeat(40);
+    let e = report.answers[0].sentences[0].evidence.as_mut().expect("evidence");
+    e.text = long.clone();
+    e.matched = vec![span(0, 8), span(9, 15)];
+    let html = plumbline::report::html::render(&report).expect("render");
+    let page = Html::parse_document(&html);
+    let folded = page.select(&sel("#a0-s0 details.ev")).next().expect("folded evidence");
+    let quote = folded.select(&sel("blockquote")).next().map(text).unwrap_or_default();
+    assert_eq!(quote, long);
+    assert_eq!(folded.select(&sel("mark")).map(text).collect::<Vec<_>>(), ["Warranty claims"]);
+    // Short evidence stays open.
+    assert!(page.select(&sel("#a0-s1 details")).next().is_none());
+    assert!(page.select(&sel("#a0-s1 blockquote")).next().is_some());
+}
