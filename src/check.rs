@@ -171,6 +171,7 @@ fn locate(doc: usize, units: &[Unit], m: WindowMatch) -> Located {
 fn evidence(ctx: &Context<'_>, loc: &Located, redact: bool) -> Evidence {
     let d = &ctx.store.documents[loc.doc];
     let file = d.file_range(loc.visible.clone());
+    let access = d.effective_access(ctx.store.default_access.as_deref()).map(<[String]>::to_vec);
     if redact {
         return Evidence {
             doc: d.id.clone(),
@@ -179,6 +180,7 @@ fn evidence(ctx: &Context<'_>, loc: &Located, redact: bool) -> Evidence {
             text: format!("[restricted text withheld: {} bytes {}–{}]", d.id, file.start, file.end),
             score: round6(loc.m.score),
             matched: Vec::new(),
+            access,
         };
     }
     let text = d.visible_text()[loc.visible.clone()].to_owned();
@@ -196,6 +198,7 @@ fn evidence(ctx: &Context<'_>, loc: &Located, redact: bool) -> Evidence {
         text,
         score: round6(loc.m.score),
         matched,
+        access,
     }
 }
 
@@ -412,6 +415,10 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
                 detail,
                 passage: r.file.clone().map(|f| Span { start: f.start, end: f.end }),
                 used_by: used.clone(),
+                access: r
+                    .document
+                    .and_then(|d| d.effective_access(ctx.store.default_access.as_deref()))
+                    .map(<[String]>::to_vec),
             }
         })
         .collect();

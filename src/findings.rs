@@ -32,9 +32,11 @@
 //! offsets — or null), plus `matched` (byte ranges of the evidence that match words of the
 //! sentence), `figures` (figures of the sentence absent from the evidence),
 //! `changed_terms`, and `cited_evidence` where `evidence` names another document
-//! (`misattributed`, `restricted_match`).
+//! (`misattributed`, `restricted_match`). Evidence carries the `access` of its document
+//! where known.
 //!
-//! `CitationFindings`: `ref`, `doc`, `status`, `detail`, and the resolved passage.
+//! `CitationFindings`: `ref`, `doc`, `status`, `detail`, the resolved passage, and the
+//! cited document's `access` where known.
 //!
 //! `Finding`: `{kind, sentence?, ref?, severity, message, gate, accepted?}` where `gate`
 //! says whether it fails the gate under the effective config.
@@ -207,6 +209,10 @@ pub struct Evidence {
     pub score: f64,
     /// Ranges of `text` (bytes, relative to `text`) that match words of the sentence.
     pub matched: Vec<Span>,
+    /// The groups that may read the document (its own access list, else the store's
+    /// default; absent when unknown), so that a reader can see whom it was meant for.
+    #[serde(skip_serializing_if = "Option::is_none", default)]
+    pub access: Option<Vec<String>>,
 }
 
 /// A content word that stands where the evidence has another.
@@ -267,6 +273,10 @@ pub struct CitationFindings {
     /// Indices of the sentences it supports best.
     #[serde(default)]
     pub used_by: Vec<usize>,
+    /// The groups that may read the cited document, when it resolved and its access is
+    /// known.
+    #[serde(skip_serializing_if = "Option::is_none", default)]
+    pub access: Option<Vec<String>>,
 }
 
 /// A reviewer's waiver of a finding.

@@ -11,5 +11,6 @@ mod common;
 mod harness;
 mod oracle_metrics;
 mod paper_examples;
+mod report;
 mod stemmer;
 mod uax29;
