@@ -661,7 +661,7 @@ impl<'c> Scorer<'c> {
 /// `units` is empty or the claim has no tokens.
 ///
 /// Windows are first scored on exact credit (ids), which needs no strings; the best
-/// [`REFINE`] of them are then tokenised again and given fuzzy credit for claim words
+/// `REFINE` of them are then tokenised again and given fuzzy credit for claim words
 /// they lack, and the best of those wins. [`Scorer`] does the same over several
 /// passages at once.
 pub fn best_window(
