@@ -605,9 +605,9 @@ impl<'c> Scorer<'c> {
         for c in list.items {
             let (units, text) = passage(c.tag);
             let mut tokens: Vec<Token> = Vec::new();
-            for k in c.first..=c.last {
+            for (k, unit) in units.iter().enumerate().take(c.last + 1).skip(c.first) {
                 let toks = unit_tokens.entry((c.tag, k)).or_insert_with(|| {
-                    let r = units[k].range.clone();
+                    let r = unit.range.clone();
                     let mut t = tokenize(&text[r.clone()]);
                     for x in &mut t {
                         x.start += r.start;
