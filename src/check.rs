@@ -36,7 +36,7 @@ use crate::findings::{
 };
 use crate::metrics::{bleu, rouge};
 use crate::store::Store;
-use crate::store::index::{Hit, Index, content_terms};
+use crate::store::index::{DocSentences, Hit, Index, content_terms};
 use crate::support::{self, Claim, Params, Scorer, Shortlist, Unit, WindowMatch};
 use crate::text::sentences;
 use crate::text::tokens::unicode_words;
@@ -100,11 +100,7 @@ fn passage_units<'a>(ctx: &Context<'a>, doc: usize, passage: &Range<usize>) -> V
             continue;
         }
         if s.start >= passage.start && s.end <= passage.end {
-            out.push(Unit {
-                range: s.clone(),
-                ids: Cow::Borrowed(ds.ids(i)),
-                figures: Cow::Borrowed(ds.figures(i)),
-            });
+            out.push(sentence_unit(ds, i));
         } else {
             let r = s.start.max(passage.start)..s.end.min(passage.end);
             if !r.is_empty() && text.is_char_boundary(r.start) && text.is_char_boundary(r.end) {
@@ -115,16 +111,19 @@ fn passage_units<'a>(ctx: &Context<'a>, doc: usize, passage: &Range<usize>) -> V
     out
 }
 
+/// Sentence `i` of an indexed document as a unit, borrowing the index's ids.
+fn sentence_unit(ds: &DocSentences, i: usize) -> Unit<'_> {
+    Unit {
+        range: ds.ranges[i].clone(),
+        ids: Cow::Borrowed(ds.ids(i)),
+        figures: Cow::Borrowed(ds.figures(i)),
+    }
+}
+
 /// Units `range` (sentence indices) of `doc`.
 fn doc_units<'a>(ctx: &Context<'a>, doc: usize, range: Range<usize>) -> Vec<Unit<'a>> {
     let ds = &ctx.index.docs[doc];
-    range
-        .map(|i| Unit {
-            range: ds.ranges[i].clone(),
-            ids: Cow::Borrowed(ds.ids(i)),
-            figures: Cow::Borrowed(ds.figures(i)),
-        })
-        .collect()
+    range.map(|i| sentence_unit(ds, i)).collect()
 }
 
 /// The store passages worth scoring for a claim: around each hit of the index, up to

@@ -197,6 +197,20 @@ pub struct Loaded {
     pub store_seconds: f64,
 }
 
+impl Loaded {
+    /// The context answers are checked in.
+    pub fn context(&self, redact_restricted: bool) -> Context<'_> {
+        Context {
+            store: &self.store,
+            index: &self.index,
+            config: &self.config,
+            principals: self.principals.as_ref(),
+            decisions: &self.decisions.0,
+            redact_restricted,
+        }
+    }
+}
+
 /// Loads config, store, index, principals and decisions; any failure is a usage error.
 pub fn load(inputs: &RunInputs) -> Result<Loaded> {
     let config = match &inputs.config {
@@ -313,14 +327,7 @@ pub fn summarise(
 pub fn check(inputs: &RunInputs, outputs: &Outputs, verbosity: Verbosity) -> Result<Outcome> {
     let started = Instant::now();
     let loaded = load(inputs)?;
-    let ctx = Context {
-        store: &loaded.store,
-        index: &loaded.index,
-        config: &loaded.config,
-        principals: loaded.principals.as_ref(),
-        decisions: &loaded.decisions.0,
-        redact_restricted: inputs.redact_restricted,
-    };
+    let ctx = loaded.context(inputs.redact_restricted);
     let (report, used) = check_answers(inputs, &ctx, &loaded, verbosity)?;
     let _ = used;
     write_outputs(&report, outputs)?;

@@ -71,10 +71,7 @@ pub fn token_similarity(a: &str, b: &str) -> f64 {
 /// Jaro-Winkler adds `0.1 · prefix · (1 − Jaro)`, and Levenshtein distance is at least
 /// `max(|a|, |b|) − c`. Tested equal to filtering [`token_similarity`] directly.
 pub fn similarity_at_least(a: &str, b: &str, threshold: f64) -> f64 {
-    if a == b {
-        return 1.0;
-    }
-    if a.is_ascii() && b.is_ascii() {
+    if a != b && a.is_ascii() && b.is_ascii() {
         let (x, y) = (a.as_bytes(), b.as_bytes());
         if x.len() < 4 || y.len() < 4 {
             return 0.0;

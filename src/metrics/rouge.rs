@@ -94,33 +94,22 @@ pub fn lcs_len<T: Eq + Hash>(a: &[T], b: &[T]) -> usize {
     if short.is_empty() {
         return 0;
     }
-    let blocks = short.len().div_ceil(64);
-    // Match masks: for every distinct symbol of `short`, the bits of its positions.
-    let mut masks: HashMap<&T, Vec<u64>> = HashMap::new();
-    for (i, sym) in short.iter().enumerate() {
-        masks.entry(sym).or_insert_with(|| vec![0u64; blocks])[i / 64] |= 1u64 << (i % 64);
-    }
-    let mut v = vec![u64::MAX; blocks];
-    for sym in long {
-        let Some(m) = masks.get(sym) else { continue };
-        let mut carry = 0u64;
-        for (vk, &mk) in v.iter_mut().zip(m) {
-            // V' = (V + (V & M)) | (V & !M), with the addition carried across blocks.
-            let u = *vk & mk;
-            let (s1, c1) = vk.overflowing_add(u);
-            let (s2, c2) = s1.overflowing_add(carry);
-            carry = u64::from(c1 || c2);
-            *vk = s2 | (*vk & !mk);
-        }
-    }
-    let zeros: usize = v.iter().map(|w| w.count_zeros() as usize).sum();
-    // Padding bits of the last block stay 1 (no mask bit is ever set there).
-    zeros
+    // Dense ids for the symbols of `short`; symbols only in `long` match nothing.
+    let mut dense: HashMap<&T, u32> = HashMap::new();
+    let ids: Vec<u32> = short
+        .iter()
+        .map(|sym| {
+            let n = dense.len() as u32;
+            *dense.entry(sym).or_insert(n)
+        })
+        .collect();
+    let table = LcsTable::new(&ids, dense.len());
+    table.len_with(long.iter().map(|sym| dense.get(sym).copied().unwrap_or(u32::MAX)))
 }
 
 /// LCS lengths against one fixed sequence of small dense symbols (`0..alphabet`), with
 /// its match masks built once: the support scorer compares one claim with hundreds of
-/// windows. Same algorithm as [`lcs_len`] (tested equal).
+/// windows. [`lcs_len`] is built on it.
 #[derive(Debug, Clone)]
 pub struct LcsTable {
     blocks: usize,

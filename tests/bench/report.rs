@@ -9,7 +9,6 @@
 use std::path::PathBuf;
 use std::time::Instant;
 
-use plumbline::check::Context;
 use plumbline::run::{self, RunInputs, Verbosity};
 
 fn main() {
@@ -28,14 +27,7 @@ fn main() {
         command: vec!["plumbline".into(), "check".into()],
     };
     let loaded = run::load(&inputs).expect("load the demo");
-    let ctx = Context {
-        store: &loaded.store,
-        index: &loaded.index,
-        config: &loaded.config,
-        principals: loaded.principals.as_ref(),
-        decisions: &loaded.decisions.0,
-        redact_restricted: false,
-    };
+    let ctx = loaded.context(false);
     let (mut report, _) =
         run::check_answers(&inputs, &ctx, &loaded, Verbosity::Quiet).expect("check the demo");
     let one = std::mem::take(&mut report.answers);

@@ -6,7 +6,7 @@
 //! nothing here writes markup: the template escapes every string it prints.
 
 use std::cmp::Ordering;
-use std::collections::BTreeSet;
+use std::collections::{BTreeMap, BTreeSet};
 
 use serde::Serialize;
 
@@ -552,41 +552,21 @@ fn summary_view(report: &Report, config: &Config) -> SummaryView {
     let count = |m: &std::collections::BTreeMap<String, usize>, k: &str| -> usize {
         m.get(k).copied().unwrap_or(0)
     };
+    let row = |counts: &BTreeMap<String, usize>, key: &str, label: String, total: usize| {
+        let n = count(counts, key);
+        CountRow { key: key.into(), label, count: n, share: percent(n, total) }
+    };
     let verdicts: Vec<CountRow> = Verdict::ALL
         .into_iter()
-        .map(|v| {
-            let n = count(&s.verdicts, v.as_str());
-            CountRow {
-                key: v.as_str().into(),
-                label: verdict_info(v).label.into(),
-                count: n,
-                share: percent(n, sentences),
-            }
-        })
+        .map(|v| row(&s.verdicts, v.as_str(), verdict_info(v).label.into(), sentences))
         .collect();
     let citations: Vec<CountRow> = CitationStatus::ALL
         .into_iter()
-        .map(|st| {
-            let n = count(&s.citations, st.as_str());
-            CountRow {
-                key: st.as_str().into(),
-                label: st.as_str().replace('_', " "),
-                count: n,
-                share: percent(n, citations_total),
-            }
-        })
+        .map(|st| row(&s.citations, st.as_str(), st.as_str().replace('_', " "), citations_total))
         .collect();
     let flags: Vec<CountRow> = Flag::ALL
         .into_iter()
-        .map(|f| {
-            let n = count(&s.flags, f.as_str());
-            CountRow {
-                key: f.as_str().into(),
-                label: f.as_str().replace('_', " "),
-                count: n,
-                share: percent(n, sentences),
-            }
-        })
+        .map(|f| row(&s.flags, f.as_str(), f.as_str().replace('_', " "), sentences))
         .collect();
     SummaryView {
         lines_read: s.lines_read,
