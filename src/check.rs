@@ -37,7 +37,7 @@ use crate::findings::{
 use crate::metrics::{bleu, rouge};
 use crate::store::Store;
 use crate::store::index::{DocSentences, Hit, Index, content_terms};
-use crate::support::{self, Claim, Params, Scorer, Shortlist, Unit, WindowMatch};
+use crate::support::{self, Claim, Params, Scorer, Shortlist, TokenCache, Unit, WindowMatch};
 use crate::text::sentences;
 use crate::text::tokens::unicode_words;
 
@@ -215,6 +215,7 @@ fn joint_support<'a>(
     unit_cache: &HashMap<usize, Vec<Unit<'a>>>,
     resolved: &[Resolved<'_>],
     p: &Params,
+    cache: &mut TokenCache,
 ) -> Option<((usize, Located), (usize, Located))> {
     let parts: Vec<(usize, Located)> = candidates
         .iter()
@@ -224,7 +225,7 @@ fn joint_support<'a>(
             let mut list = Shortlist::default();
             scorer.windows(ci, units, p, &mut list);
             let text = ctx.store.documents[doc].visible_text();
-            let (_, m) = scorer.best(list, |_| (units.as_slice(), text), p)?;
+            let (_, m) = scorer.best(list, |_| (units.as_slice(), text), &mut *cache)?;
             (m.coverage > 0.0).then(|| (ci, locate(doc, units, m)))
         })
         .collect();
@@ -247,7 +248,10 @@ fn joint_support<'a>(
             let units = support::units(&joint, &ranges);
             let mut list = Shortlist::default();
             scorer.whole(0, &units, &mut list);
-            let Some((_, m)) = scorer.best(list, |_| (units.as_slice(), joint.as_str()), p) else {
+            // A fresh cache: the joint text is temporary, and its address may be reused.
+            let mut own = TokenCache::new();
+            let best_joint = scorer.best(list, |_| (units.as_slice(), joint.as_str()), &mut own);
+            let Some((_, m)) = best_joint else {
                 continue;
             };
             // Both parts must add words of the claim that the other lacks.
@@ -337,6 +341,8 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
     let resolved: Vec<Resolved<'_>> =
         answer.citations.iter().map(|c| resolve(ctx.store, c, groups)).collect();
     let mut unit_cache: HashMap<usize, Vec<Unit>> = HashMap::new();
+    // Tokens of passage sentences, shared by the answer's claims (texts outlive it).
+    let mut tok_cache = TokenCache::new();
     let mut used_by: Vec<Vec<usize>> = vec![Vec::new(); resolved.len()];
     let mut sentences_out = Vec::with_capacity(pieces.len());
 
@@ -352,7 +358,7 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
         } else {
             (0..resolved.len()).collect()
         };
-        let scorer = Scorer::new(&claim);
+        let scorer = Scorer::new(&claim, &p);
         // Best window over the cited passages.
         for &ci in &candidates {
             if let (Some(doc), Some(passage)) = (resolved[ci].doc, resolved[ci].passage.as_ref()) {
@@ -368,7 +374,11 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
         let text_of =
             |doc: Option<usize>| doc.map_or("", |d| ctx.store.documents[d].visible_text());
         let best: Option<(usize, Located)> = scorer
-            .best(list, |ci| (unit_cache[&ci].as_slice(), text_of(resolved[ci].doc)), &p)
+            .best(
+                list,
+                |ci| (unit_cache[&ci].as_slice(), text_of(resolved[ci].doc)),
+                &mut tok_cache,
+            )
             .and_then(|(ci, m)| {
                 let doc = resolved[ci].doc?;
                 Some((ci, locate(doc, &unit_cache[&ci], m)))
@@ -384,7 +394,7 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
         {
             let single = best.as_ref().map_or(0.0, |(_, l)| l.m.score);
             if let Some((first, second)) =
-                joint_support(ctx, &scorer, &candidates, &unit_cache, &resolved, &p)
+                joint_support(ctx, &scorer, &candidates, &unit_cache, &resolved, &p, &mut tok_cache)
                     .filter(|(f, _)| f.1.m.score >= single + JOINT_GAIN)
             {
                 assessment = support::assess(&claim, Some(&first.1.m), &p);
@@ -443,7 +453,7 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
                 let list = if ent == Entitlement::Forbidden { &mut closed } else { &mut open };
                 scorer.windows(k, units, &p, list);
             }
-            let pick = |list: Shortlist| {
+            let mut pick = |list: Shortlist| {
                 scorer
                     .best(
                         list,
@@ -451,7 +461,7 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
                             let (doc, units) = &passages[k];
                             (units.as_slice(), ctx.store.documents[*doc].visible_text())
                         },
-                        &p,
+                        &mut tok_cache,
                     )
                     .map(|(k, m)| locate(passages[k].0, &passages[k].1, m))
             };

@@ -39,6 +39,7 @@
 //!   question, or a Markdown heading has nothing to check.
 
 use std::borrow::Cow;
+use std::cell::RefCell;
 use std::collections::{HashMap, HashSet};
 use std::ops::Range;
 use std::sync::LazyLock;
@@ -407,7 +408,14 @@ static SYNONYMS: LazyLock<HashSet<(String, String)>> = LazyLock::new(|| {
 const SYNONYM_CREDIT: f64 = 0.9;
 
 fn is_synonym(a: &str, b: &str) -> bool {
-    SYNONYMS.contains(&(a.to_owned(), b.to_owned()))
+    synonyms_of(a).contains(&term_id(b))
+}
+
+/// Whether two stems are listed opposites.
+fn is_opposite(a: &Token, b: &Token) -> bool {
+    static IDS: LazyLock<HashSet<(u32, u32)>> =
+        LazyLock::new(|| OPPOSITES.iter().map(|(a, b)| (term_id(a), term_id(b))).collect());
+    IDS.contains(&(a.id, b.id)) && OPPOSITES.contains(&(a.stem.clone(), b.stem.clone()))
 }
 
 /// Ids of the listed synonyms of a stem.
@@ -547,6 +555,8 @@ pub struct Scorer<'c> {
     lcs: LcsTable,
     /// Character counts of the content tokens (for the fuzzy length filter).
     content_chars: Vec<usize>,
+    /// Fuzzy similarities asked so far.
+    memo: FuzzyMemo,
 }
 
 fn score_of(coverage: f64, bigram: f64, order: f64) -> f64 {
@@ -560,7 +570,7 @@ fn fuzzy_length_ok(a_chars: usize, a: &str, b: &str) -> bool {
 
 impl<'c> Scorer<'c> {
     /// Prepares `claim`.
-    pub fn new(claim: &'c Claim) -> Scorer<'c> {
+    pub fn new(claim: &'c Claim, p: &Params) -> Scorer<'c> {
         let content: Vec<&Token> = claim.tokens.iter().filter(|t| t.is_content()).collect();
         let mut local: IdMap<u32, u32> = IdMap::default();
         for t in &claim.tokens {
@@ -590,7 +600,8 @@ impl<'c> Scorer<'c> {
             e.credits = list;
         }
         let has_figures = content.iter().any(|c| c.figure.is_some());
-        Scorer { claim, content, entries, claim_bigrams, has_figures, lcs, content_chars }
+        let memo = FuzzyMemo::new(p.fuzzy_threshold);
+        Scorer { claim, content, entries, claim_bigrams, has_figures, lcs, content_chars, memo }
     }
 
     fn stats(&self, u: &Unit<'_>) -> UnitStats {
@@ -763,16 +774,13 @@ impl<'c> Scorer<'c> {
         &self,
         list: Shortlist,
         passage: impl Fn(usize) -> (&'u [Unit<'u>], &'u str),
-        p: &Params,
+        cache: &mut TokenCache,
     ) -> Option<(usize, WindowMatch)> {
         type Best = (usize, usize, usize, f64, f64, Vec<Token>, Vec<bool>);
         let mut best: Option<Best> = None;
-        // Shortlisted windows overlap; tokenise each sentence once.
-        let mut unit_tokens: TokenCache = HashMap::new();
         for c in list.items {
             let (units, text) = passage(c.tag);
-            let (tokens, ends) =
-                window_tokens(units, text, c.first, c.last, c.tag, &mut unit_tokens);
+            let (tokens, ends) = window_tokens(units, text, c.first, c.last, cache);
             let mut credit = c.credit;
             // Fuzzy credit for words the window lacks (spelling variants, typos).
             for (k, w) in self.content.iter().enumerate() {
@@ -786,7 +794,7 @@ impl<'c> Scorer<'c> {
                             && !t.stop
                             && fuzzy_length_ok(self.content_chars[k], &w.text, &t.text)
                     })
-                    .map(|t| similarity_at_least(&w.text, &t.text, p.fuzzy_threshold))
+                    .map(|t| self.memo.get(&w.text, &t.text))
                     .fold(0.0, f64::max);
                 credit[k] = credit[k].max(fuzzy);
             }
@@ -830,19 +838,56 @@ impl<'c> Scorer<'c> {
                     first = first.min(k);
                     last = last.max(k);
                 }
-                (tokens, ends) = window_tokens(units, text, first, last, tag, &mut unit_tokens);
+                (tokens, ends) = window_tokens(units, text, first, last, cache);
             }
         }
         let window: Vec<&Token> = tokens.iter().collect();
-        Some((tag, inspect(self.claim, &window, &ends, text, first, last, score, coverage, p)))
+        let found = Found { first, last, score, coverage };
+        Some((tag, inspect(self.claim, &window, &ends, text, found, &self.memo)))
+    }
+}
+
+/// Fuzzy similarities of word pairs, each computed once per claim: refining windows,
+/// inspecting the best one and aligning it all ask about the same pairs.
+#[derive(Debug)]
+struct FuzzyMemo {
+    threshold: f64,
+    map: RefCell<IdMap<u64, f64>>,
+}
+
+impl FuzzyMemo {
+    fn new(threshold: f64) -> FuzzyMemo {
+        FuzzyMemo { threshold, map: RefCell::new(IdMap::default()) }
+    }
+
+    /// [`similarity_at_least`] of the two words at this memo's threshold (0 below it).
+    fn get(&self, a: &str, b: &str) -> f64 {
+        let mut h: u64 = 0xcbf2_9ce4_8422_2325;
+        for byte in a.bytes().chain([0xff]).chain(b.bytes()) {
+            h ^= u64::from(byte);
+            h = h.wrapping_mul(0x0100_0000_01b3);
+        }
+        if let Some(&v) = self.map.borrow().get(&h) {
+            return v;
+        }
+        let v = similarity_at_least(a, b, self.threshold);
+        self.map.borrow_mut().insert(h, v);
+        v
+    }
+
+    /// Whether the words are similar at `threshold` (at least this memo's).
+    fn at(&self, a: &str, b: &str, threshold: f64) -> bool {
+        let v = self.get(a, b);
+        v > 0.0 && v >= threshold
     }
 }
 
 /// Most sentences a window is widened by to take in a figure of the claim.
 const WIDEN: usize = 4;
 
-/// Sentence tokens by passage tag and unit.
-type TokenCache = HashMap<(usize, usize), Vec<Token>>;
+/// Sentence tokens by the address of the text they are in and their byte range: a cache
+/// that may live as long as the texts (one answer's check), shared by its claims.
+pub type TokenCache = HashMap<(usize, usize, usize), Vec<Token>>;
 
 /// The tokens of units `first..=last` of a passage (ranges in its text), and for each
 /// whether it ends a sentence. Each unit is tokenised once per cache.
@@ -851,13 +896,13 @@ fn window_tokens(
     text: &str,
     first: usize,
     last: usize,
-    tag: usize,
     cache: &mut TokenCache,
 ) -> (Vec<Token>, Vec<bool>) {
     let mut tokens: Vec<Token> = Vec::new();
     let mut ends: Vec<bool> = Vec::new();
-    for (k, unit) in units.iter().enumerate().take(last + 1).skip(first) {
-        let toks = cache.entry((tag, k)).or_insert_with(|| {
+    for unit in units.iter().take(last + 1).skip(first) {
+        let key = (text.as_ptr() as usize, unit.range.start, unit.range.end);
+        let toks = cache.entry(key).or_insert_with(|| {
             let r = unit.range.clone();
             let mut t = text.get(r.clone()).map(tokenize).unwrap_or_default();
             for x in &mut t {
@@ -892,10 +937,10 @@ pub fn best_window(
     text: &str,
     p: &Params,
 ) -> Option<WindowMatch> {
-    let scorer = Scorer::new(claim);
+    let scorer = Scorer::new(claim, p);
     let mut list = Shortlist::default();
     scorer.windows(0, units, p, &mut list);
-    scorer.best(list, |_| (units, text), p).map(|(_, m)| m)
+    scorer.best(list, |_| (units, text), &mut TokenCache::new()).map(|(_, m)| m)
 }
 
 fn mean(xs: &[f64]) -> f64 {
@@ -945,18 +990,23 @@ fn longest_run(tokens: &[Token], hit: impl Fn(usize) -> bool) -> usize {
 
 /// Runs the figure, polarity and changed-term checks of a claim against a window
 /// (`ends[k]`: window token `k` ends a sentence of the passage `text`).
-#[allow(clippy::too_many_arguments)]
+/// Where the best window is and what it scored.
+struct Found {
+    first: usize,
+    last: usize,
+    score: f64,
+    coverage: f64,
+}
+
 fn inspect(
     claim: &Claim,
     window: &[&Token],
     ends: &[bool],
     text: &str,
-    first: usize,
-    last: usize,
-    score: f64,
-    coverage: f64,
-    p: &Params,
+    found: Found,
+    memo: &FuzzyMemo,
 ) -> WindowMatch {
+    let Found { first, last, score, coverage } = found;
     let missing_figures: Vec<String> = claim
         .tokens
         .iter()
@@ -968,6 +1018,7 @@ fn inspect(
     // Which claim tokens the window carries: the same stem, a listed synonym, the same
     // figure, or (for words the window lacks exactly) a fuzzy variant.
     let window_stems: HashSet<&str> = window.iter().map(|w| w.stem.as_str()).collect();
+    let window_ids: HashSet<u32> = window.iter().map(|w| w.id).collect();
     let carried: Vec<bool> = claim
         .tokens
         .iter()
@@ -975,13 +1026,16 @@ fn inspect(
             Some(f) => window.iter().any(|w| w.figure.as_ref().is_some_and(|g| f.is_carried_by(g))),
             None => {
                 window_stems.contains(c.stem.as_str())
-                    || window_stems.iter().any(|w| is_synonym(&c.stem, w))
-                    || (!c.stop
-                        && window.iter().any(|w| {
+                    || synonyms_of(&c.stem).iter().any(|id| window_ids.contains(id))
+                    || (!c.stop && {
+                        let chars = c.text.chars().count();
+                        window.iter().any(|w| {
                             w.figure.is_none()
                                 && !w.stop
-                                && similarity_at_least(&c.text, &w.text, p.fuzzy_threshold) > 0.0
-                        }))
+                                && fuzzy_length_ok(chars, &c.text, &w.text)
+                                && memo.get(&c.text, &w.text) > 0.0
+                        })
+                    })
             }
         })
         .collect();
@@ -1018,7 +1072,8 @@ fn inspect(
                     })
                     || (w.figure.is_none()
                         && fuzzy_claim.iter().any(|c| {
-                            similarity_at_least(&c.text, &w.text, p.fuzzy_threshold) > 0.0
+                            fuzzy_length_ok(c.text.chars().count(), &c.text, &w.text)
+                                && memo.get(&c.text, &w.text) > 0.0
                         })))
         })
         .map(|w| w.start..w.end)
@@ -1041,7 +1096,7 @@ fn inspect(
         toks: wtoks,
         text,
     };
-    let (negation_mismatch, changed) = align_checks(&a, &b, p);
+    let (negation_mismatch, changed) = align_checks(&a, &b, memo);
     WindowMatch {
         first,
         last,
@@ -1058,24 +1113,27 @@ fn inspect(
 }
 
 /// LCS alignment of claim and window stems: the matched index pairs.
-fn align(a: &[&Token], b: &[&Token], p: &Params) -> Vec<(usize, usize)> {
+fn align(a: &[&Token], b: &[&Token], memo: &FuzzyMemo) -> Vec<(usize, usize)> {
     let (n, m) = (a.len(), b.len());
-    let fuzzy = p.fuzzy_threshold.max(0.9);
+    let fuzzy = memo.threshold.max(0.9);
     // Which pairs match, decided once (the table and the walk back both ask). Fuzzy
     // matches are only sought between words that have no exact partner on the other
     // side: a word present in both is aligned by its exact occurrence.
     let ids_a: HashSet<u32> = a.iter().map(|t| t.id).collect();
     let ids_b: HashSet<u32> = b.iter().map(|t| t.id).collect();
     let mut eq = vec![false; n * m];
+    let b_fuzzy: Vec<bool> =
+        b.iter().map(|y| y.figure.is_none() && !y.stop && !ids_a.contains(&y.id)).collect();
     for (i, x) in a.iter().enumerate() {
         let x_fuzzy = x.figure.is_none() && !x.stop && !ids_b.contains(&x.id);
+        let chars = if x_fuzzy { x.text.chars().count() } else { 0 };
         for (j, y) in b.iter().enumerate() {
             eq[i * m + j] = (x.id == y.id && x.stem == y.stem)
                 || (x.figure.is_some() && y.figure.is_some() && x.text == y.text)
                 || (x_fuzzy
-                    && y.figure.is_none()
-                    && !ids_a.contains(&y.id)
-                    && similarity_at_least(&x.text, &y.text, fuzzy) > 0.0);
+                    && b_fuzzy[j]
+                    && fuzzy_length_ok(chars, &x.text, &y.text)
+                    && memo.at(&x.text, &y.text, fuzzy));
         }
     }
     let same = |i: usize, j: usize| eq[i * m + j];
@@ -1204,8 +1262,8 @@ fn crosses_sentence(b: &Side<'_>, from: usize, to: usize) -> bool {
 /// Longest gap looked at before the first or after the last aligned word.
 const EDGE: usize = 2;
 
-fn align_checks(a: &Side<'_>, b: &Side<'_>, p: &Params) -> (bool, Vec<ChangedTerm>) {
-    let pairs = align(&a.toks, &b.toks, p);
+fn align_checks(a: &Side<'_>, b: &Side<'_>, memo: &FuzzyMemo) -> (bool, Vec<ChangedTerm>) {
+    let pairs = align(&a.toks, &b.toks, memo);
     let mut changed = Vec::new();
     if pairs.is_empty() {
         return (false, changed);
@@ -1251,7 +1309,7 @@ fn align_checks(a: &Side<'_>, b: &Side<'_>, p: &Params) -> (bool, Vec<ChangedTer
         let mut found = false;
         for &x in &ca {
             for &y in &cb {
-                if OPPOSITES.contains(&(a.toks[x].stem.clone(), b.toks[y].stem.clone())) {
+                if is_opposite(a.toks[x], b.toks[y]) {
                     changed.push(ChangedTerm { claim: a.shown(x), evidence: b.shown(y) });
                     found = true;
                 }
@@ -1277,7 +1335,7 @@ fn align_checks(a: &Side<'_>, b: &Side<'_>, p: &Params) -> (bool, Vec<ChangedTer
             let (x, y) = (a.toks[ca[0]], b.toks[cb[0]]);
             let related = x.stem == y.stem
                 || is_synonym(&x.stem, &y.stem)
-                || similarity_at_least(&x.text, &y.text, p.fuzzy_threshold) > 0.0;
+                || memo.get(&x.text, &y.text) > 0.0;
             if x.stop == y.stop && !related {
                 changed.push(ChangedTerm { claim: a.shown(ca[0]), evidence: b.shown(cb[0]) });
             }
