@@ -1,6 +1,9 @@
 //! JUnit XML (`--junit`): one `testcase` per answer with one `failure` per finding that
-//! fails the gate, and one `error` testcase per rejected input line, in the widely read
-//! `testsuites → testsuite → testcase` form (the Jenkins `junit-4.xsd` schema).
+//! fails the gate (its message the finding's, its text the sentence, the citation and the
+//! line), the answer's other findings in `system-out`, and one testcase with an `error`
+//! per rejected input line, in the widely read `testsuites → testsuite → testcase` form.
+//! Validated against the Jenkins `junit-4.xsd` schema and read back with a JUnit parser in
+//! `tests/integration/formats.rs`.
 
 use std::fmt::Write;
 
@@ -45,7 +48,8 @@ pub fn render(report: &Report) -> String {
     for a in &report.answers {
         let _ = write!(x, "    <testcase classname=\"answers\" name=\"{}\"", xml_escape(&a.id));
         let failures: Vec<_> = a.findings.iter().filter(|f| f.gate).collect();
-        if failures.is_empty() {
+        let others: Vec<_> = a.findings.iter().filter(|f| !f.gate).collect();
+        if failures.is_empty() && others.is_empty() {
             x.push_str("/>\n");
             continue;
         }
@@ -66,6 +70,19 @@ pub fn render(report: &Report) -> String {
                 xml_escape(&f.message),
                 xml_escape(&body)
             );
+        }
+        if !others.is_empty() {
+            // Findings that do not fail the gate (warnings, waived ones) as the testcase's
+            // output, where CI pages show them beside a passing test.
+            let mut out = String::from("findings that do not fail the gate:\n");
+            for f in others {
+                let state = match &f.accepted {
+                    Some(acc) => format!(" (accepted by {}: {})", acc.by, acc.note),
+                    None => String::new(),
+                };
+                let _ = writeln!(out, "- {}: {}{state}", f.kind, f.message);
+            }
+            let _ = writeln!(x, "      <system-out>{}</system-out>", xml_escape(&out));
         }
         x.push_str("    </testcase>\n");
     }
