@@ -78,21 +78,18 @@ impl Subject {
 }
 
 /// The SARIF `partialFingerprints` value of a finding: lower-case hex SHA-256 of
-/// `answer id NUL subject key NUL kind` (plus `NUL ref` for a citation finding, so that
-/// two citations of one document stay apart, and `NUL n` for the n-th repeat, n ≥ 2, of
-/// the same inputs within one answer). It stays the same across runs for the same answer
-/// id, normalised sentence text and kind.
-pub fn fingerprint(answer_id: &str, subject: &Subject, r#ref: Option<&str>, kind: &str, repeat: usize) -> String {
+/// `answer id NUL subject key NUL kind`, plus `NUL n` for the n-th finding (n ≥ 2) with
+/// the same three within one answer (a sentence said twice, a document cited twice). It
+/// stays the same across runs for the same answer id, normalised sentence text (or cited
+/// document) and kind, whatever the answer's line, the sentence's position or the
+/// citation's ref.
+pub fn fingerprint(answer_id: &str, subject: &Subject, kind: &str, repeat: usize) -> String {
     let mut h = Sha256::new();
     h.update(answer_id.as_bytes());
     h.update([0]);
     h.update(subject.key().as_bytes());
     h.update([0]);
     h.update(kind.as_bytes());
-    if let (Subject::Citation(_), Some(r)) = (subject, r#ref) {
-        h.update([0]);
-        h.update(r.as_bytes());
-    }
     if repeat >= 2 {
         h.update([0]);
         h.update(repeat.to_string().as_bytes());
@@ -121,15 +118,21 @@ mod tests {
     #[test]
     fn fingerprint_is_stable_and_discriminating() {
         let s = Subject::Sentence(match_text("Claims stay open."));
-        let a = fingerprint("a-1", &s, None, "unsupported", 1);
+        let a = fingerprint("a-1", &s, "unsupported", 1);
         // Pinned: SHA-256 of "a-1\0s:claims stay open.\0unsupported" (computed with
         // Python's hashlib when this test was written).
         assert_eq!(a, "6f60c0819e32b4bc0911e11ff31d4b9508520cd4c0d4eb0b7a054204aafe867d");
-        assert_eq!(a, fingerprint("a-1", &Subject::Sentence(match_text(" claims  STAY open. ")), None, "unsupported", 1));
-        assert_ne!(a, fingerprint("a-2", &s, None, "unsupported", 1));
-        assert_ne!(a, fingerprint("a-1", &s, None, "partial", 1));
-        assert_ne!(a, fingerprint("a-1", &s, None, "unsupported", 2));
+        assert_eq!(a, fingerprint(
+                "a-1",
+                &Subject::Sentence(match_text(" claims  STAY open. ")),
+                "unsupported",
+                1
+            ));
+        assert_ne!(a, fingerprint("a-2", &s, "unsupported", 1));
+        assert_ne!(a, fingerprint("a-1", &s, "partial", 1));
+        assert_ne!(a, fingerprint("a-1", &s, "unsupported", 2));
         let c = Subject::Citation("faq.md".into());
-        assert_ne!(fingerprint("a-1", &c, Some("1"), "dead", 1), fingerprint("a-1", &c, Some("2"), "dead", 1));
+        assert_ne!(fingerprint("a-1", &c, "dead", 1), fingerprint("a-1", &c, "dead", 2));
+        assert_ne!(fingerprint("a-1", &c, "dead", 1), fingerprint("a-1", &Subject::Answer, "dead", 1));
     }
 }

@@ -28,6 +28,20 @@ pub fn xml_escape(s: &str) -> String {
     out
 }
 
+/// `s` as an XML CDATA section (a `]]>` inside is split across two sections), with the
+/// characters XML 1.0 cannot carry dropped. Element text goes in CDATA so that readers
+/// that mishandle entity references in text (some JUnit parsers drop them) still get it
+/// whole.
+pub fn cdata(s: &str) -> String {
+    let clean: String = s
+        .chars()
+        .filter(|&c| {
+            matches!(c, '\t' | '\n' | '\r') || !((c as u32) < 0x20 || c == '\u{FFFE}' || c == '\u{FFFF}')
+        })
+        .collect();
+    format!("<![CDATA[{}]]>", clean.replace("]]>", "]]]]><![CDATA[>"))
+}
+
 /// Renders the JUnit XML document.
 pub fn render(report: &Report) -> String {
     let failing: usize = report.answers.iter().filter(|a| !a.passed).count();
@@ -68,7 +82,7 @@ pub fn render(report: &Report) -> String {
                 "      <failure type=\"{}\" message=\"{}\">{}</failure>",
                 xml_escape(&f.kind),
                 xml_escape(&f.message),
-                xml_escape(&body)
+                cdata(&body)
             );
         }
         if !others.is_empty() {
@@ -82,7 +96,7 @@ pub fn render(report: &Report) -> String {
                 };
                 let _ = writeln!(out, "- {}: {}{state}", f.kind, f.message);
             }
-            let _ = writeln!(x, "      <system-out>{}</system-out>", xml_escape(&out));
+            let _ = writeln!(x, "      <system-out>{}</system-out>", cdata(&out));
         }
         x.push_str("    </testcase>\n");
     }
@@ -101,6 +115,11 @@ pub fn render(report: &Report) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn cdata_cannot_be_closed_early() {
+        assert_eq!(cdata("a]]>b\u{1}<c>"), "<![CDATA[a]]]]><![CDATA[>b<c>]]>");
+    }
 
     #[test]
     fn escapes_markup_and_drops_forbidden_controls() {

@@ -9,7 +9,7 @@
 //!   ([`super::locate`]; UTF-16 code units, the SARIF default `columnKind`). A finding a
 //!   reviewer accepted carries an `external` suppression with who and why.
 //! * `partialFingerprints["plumblineFinding/v1"]`: SHA-256 of the answer id, the finding's
-//!   subject (normalised sentence text, or cited document and ref) and kind
+//!   subject (normalised sentence text, or cited document) and kind
 //!   ([`crate::identity::fingerprint`]), so that a code-scanning service sees the same
 //!   result across runs while the answer keeps that sentence, wherever its line moves.
 //! * One `error` result per line of the answers file that could not be read.
@@ -110,20 +110,21 @@ pub fn render_located(report: &Report, columns: Option<&SentenceColumns>) -> ser
     };
     let mut results = Vec::new();
     for (ai, a) in report.answers.iter().enumerate() {
-        let mut repeats: HashMap<(String, String, Option<String>), usize> = HashMap::new();
+        let mut repeats: HashMap<(String, String), usize> = HashMap::new();
         for f in &a.findings {
             let subject = Subject::of(a, f);
-            let seen = repeats.entry((f.kind.clone(), subject.key(), f.r#ref.clone())).or_default();
+            let seen = repeats.entry((f.kind.clone(), subject.key())).or_default();
             *seen += 1;
             let sentence = f.sentence.and_then(|i| a.sentences.get(i));
-            let mut text = format!("answer {}", a.id);
+            // The finding's own message, then the sentence in full where the message does
+            // not already quote it.
+            let mut text = format!("answer {}: {}.", a.id, f.message.trim_end_matches('.'));
             if let Some(s) = sentence {
-                text.push_str(&format!(", sentence {} (\"{}\")", s.index + 1, s.text));
+                let head: String = s.text.chars().take(30).collect();
+                if !f.message.contains(&head) {
+                    text.push_str(&format!(" Sentence {}: \"{}\"", s.index + 1, s.text));
+                }
             }
-            if let Some(r) = &f.r#ref {
-                text.push_str(&format!(", citation [{r}]"));
-            }
-            text.push_str(&format!(": {}", f.message));
             let cols = f
                 .sentence
                 .and_then(|i| columns.and_then(|c| c.get(&ai)).and_then(|v| v.get(i).copied().flatten()));
@@ -137,7 +138,7 @@ pub fn render_located(report: &Report, columns: Option<&SentenceColumns>) -> ser
                 "message": {"text": text},
                 "locations": location(a.line, cols),
                 "partialFingerprints": {
-                    "plumblineFinding/v1": fingerprint(&a.id, &subject, f.r#ref.as_deref(), &f.kind, *seen)
+                    "plumblineFinding/v1": fingerprint(&a.id, &subject, &f.kind, *seen)
                 }
             });
             if let Some(i) = index_of(&f.kind) {

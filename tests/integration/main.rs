@@ -5,6 +5,7 @@
 //! that define the metrics.
 
 mod check;
+mod formats;
 mod confinement;
 mod cli;
 mod common;
