@@ -148,7 +148,8 @@ pub struct ChangeSummary {
     pub sentences_lower: usize,
     /// Matched sentences whose support is higher.
     pub sentences_higher: usize,
-    /// Claim sentences only in NEW (of matched answers).
+    /// Claim sentences only in NEW, of matched answers (a new answer's sentences are
+    /// listed with it but not counted here).
     pub sentences_added: usize,
     /// Claim sentences only in BASE (of matched answers).
     pub sentences_removed: usize,
@@ -423,6 +424,21 @@ fn pair_by<K: Eq + std::hash::Hash>(
     (pairs, only_base, only_new)
 }
 
+/// The claim sentences of an answer only in one run, as added or removed.
+fn claims(a: &AnswerFindings, change: Direction) -> Vec<SentenceChange> {
+    a.sentences
+        .iter()
+        .filter(|s| s.verdict != Verdict::NoClaim)
+        .map(|s| {
+            let side = Some(sentence_side(s));
+            match change {
+                Direction::Removed => SentenceChange { change, base: side, new: None },
+                _ => SentenceChange { change, base: None, new: side },
+            }
+        })
+        .collect()
+}
+
 /// Whether an added finding counts against the tolerance.
 fn counts(f: &Finding, strict: bool) -> bool {
     f.accepted.is_none() && (strict || f.severity == Severity::Error)
@@ -626,7 +642,7 @@ pub fn compare(
                     question: a.question.clone(),
                     base: None,
                     new: Some(answer_side(a)),
-                    sentences: Vec::new(),
+                    sentences: claims(a, Direction::Added),
                     findings_added,
                     findings_resolved: Vec::new(),
                     approved: None,
@@ -643,7 +659,7 @@ pub fn compare(
             question: a.question.clone(),
             base: Some(answer_side(a)),
             new: None,
-            sentences: Vec::new(),
+            sentences: claims(a, Direction::Removed),
             findings_added: Vec::new(),
             findings_resolved: Vec::new(),
             approved: None,

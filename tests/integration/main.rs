@@ -6,6 +6,7 @@
 
 mod check;
 mod formats;
+mod gating;
 mod confinement;
 mod cli;
 mod common;
