@@ -39,7 +39,7 @@ use std::collections::{BTreeMap, HashMap};
 use serde::{Deserialize, Serialize};
 
 use crate::findings::{
-    AnswerFindings, ApprovedComparison, Finding, InputFile, Severity, SentenceFindings, Summary,
+    AnswerFindings, ApprovedComparison, Finding, InputFile, SentenceFindings, Severity, Summary,
     Tool, Verdict,
 };
 use crate::identity::{Subject, match_text};
@@ -380,7 +380,12 @@ fn sentence_side(s: &SentenceFindings) -> SentenceSide {
     }
 }
 
-fn finding_change(a: &AnswerFindings, f: &Finding, subject: &Subject, counted: bool) -> FindingChange {
+fn finding_change(
+    a: &AnswerFindings,
+    f: &Finding,
+    subject: &Subject,
+    counted: bool,
+) -> FindingChange {
     FindingChange {
         kind: f.kind.clone(),
         severity: f.severity,
@@ -445,16 +450,26 @@ fn counts(f: &Finding, strict: bool) -> bool {
 }
 
 fn answer_side(a: &AnswerFindings) -> AnswerSide {
-    AnswerSide { line: a.line, passed: a.passed, gate_findings: a.findings.iter().filter(|f| f.gate).count() }
+    AnswerSide {
+        line: a.line,
+        passed: a.passed,
+        gate_findings: a.findings.iter().filter(|f| f.gate).count(),
+    }
 }
 
 /// Compares one matched answer; `None` when nothing changed.
-fn compare_answer(b: &AnswerFindings, n: &AnswerFindings, st: &Settings, sum: &mut ChangeSummary) -> Option<AnswerChange> {
+fn compare_answer(
+    b: &AnswerFindings,
+    n: &AnswerFindings,
+    st: &Settings,
+    sum: &mut ChangeSummary,
+) -> Option<AnswerChange> {
     let (mut worse, mut better) = (false, false);
     let mut counted = 0usize;
 
     // Sentences.
-    let keys = |a: &AnswerFindings| a.sentences.iter().map(|s| match_text(&s.text)).collect::<Vec<_>>();
+    let keys =
+        |a: &AnswerFindings| a.sentences.iter().map(|s| match_text(&s.text)).collect::<Vec<_>>();
     let (pairs, only_base, only_new) = pair_by(&keys(b), &keys(n));
     let mut sentences = Vec::new();
     for (i, j) in pairs {
@@ -481,21 +496,33 @@ fn compare_answer(b: &AnswerFindings, n: &AnswerFindings, st: &Settings, sum: &m
             _ => {}
         }
         if let Some(change) = change {
-            sentences.push(SentenceChange { change, base: Some(sentence_side(x)), new: Some(sentence_side(y)) });
+            sentences.push(SentenceChange {
+                change,
+                base: Some(sentence_side(x)),
+                new: Some(sentence_side(y)),
+            });
         }
     }
     for i in only_base {
         let s = &b.sentences[i];
         if s.verdict != Verdict::NoClaim {
             sum.sentences_removed += 1;
-            sentences.push(SentenceChange { change: Direction::Removed, base: Some(sentence_side(s)), new: None });
+            sentences.push(SentenceChange {
+                change: Direction::Removed,
+                base: Some(sentence_side(s)),
+                new: None,
+            });
         }
     }
     for j in only_new {
         let s = &n.sentences[j];
         if s.verdict != Verdict::NoClaim {
             sum.sentences_added += 1;
-            sentences.push(SentenceChange { change: Direction::Added, base: None, new: Some(sentence_side(s)) });
+            sentences.push(SentenceChange {
+                change: Direction::Added,
+                base: None,
+                new: Some(sentence_side(s)),
+            });
         }
     }
 
@@ -546,12 +573,20 @@ fn compare_answer(b: &AnswerFindings, n: &AnswerFindings, st: &Settings, sum: &m
             if st.strict {
                 counted += 1;
             }
-            Some(ApprovedChange { change: Direction::Lower, base: Some(x.clone()), new: Some(y.clone()) })
+            Some(ApprovedChange {
+                change: Direction::Lower,
+                base: Some(x.clone()),
+                new: Some(y.clone()),
+            })
         }
         (Some(x), Some(y)) if y.rouge_l >= x.rouge_l + st.approved_drop => {
             better = true;
             sum.approved_higher += 1;
-            Some(ApprovedChange { change: Direction::Higher, base: Some(x.clone()), new: Some(y.clone()) })
+            Some(ApprovedChange {
+                change: Direction::Higher,
+                base: Some(x.clone()),
+                new: Some(y.clone()),
+            })
         }
         _ => None,
     };
@@ -613,7 +648,8 @@ pub fn compare(
     };
     let base_by_id: HashMap<&str, &AnswerFindings> =
         b.answers.iter().map(|a| (a.id.as_str(), a)).collect();
-    let new_ids: std::collections::HashSet<&str> = n.answers.iter().map(|a| a.id.as_str()).collect();
+    let new_ids: std::collections::HashSet<&str> =
+        n.answers.iter().map(|a| a.id.as_str()).collect();
     let mut answers = Vec::new();
     for a in &n.answers {
         match base_by_id.get(a.id.as_str()) {
@@ -666,7 +702,9 @@ pub fn compare(
             counted: 0,
         });
     }
-    answers.sort_by(|x, y| x.state.cmp(&y.state).then(y.counted.cmp(&x.counted)).then_with(|| x.id.cmp(&y.id)));
+    answers.sort_by(|x, y| {
+        x.state.cmp(&y.state).then(y.counted.cmp(&x.counted)).then_with(|| x.id.cmp(&y.id))
+    });
 
     // Rejected lines have no id: the increase counts as added rejected_line errors.
     let more_rejected = n.rejected.len().saturating_sub(b.rejected.len());

@@ -593,7 +593,10 @@ allow_rejected_lines = false
         assert_eq!(c.regression.min_rouge_l, Some(0.4));
         assert_eq!(c.regression.min_bleu, Some(20.0));
         let e = error("[regression]\nmin_rouge_l = 1.5\n");
-        assert!(e.starts_with("plumbline.toml:2:1: regression.min_rouge_l: must be between 0 and 1"), "{e}");
+        assert!(
+            e.starts_with("plumbline.toml:2:1: regression.min_rouge_l: must be between 0 and 1"),
+            "{e}"
+        );
         let e = error("[regression]\nmin_bleu = 101\n");
         assert!(e.contains("regression.min_bleu: must be between 0 and 100"), "{e}");
         let e = error("[gate]\nfail_on = [\"dead\", \"below_approved_rouge_l\"]\n");

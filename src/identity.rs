@@ -107,7 +107,10 @@ mod tests {
 
     #[test]
     fn normalisation_folds_case_width_and_space_only() {
-        assert_eq!(match_text("  Claims  stay\topen\u{00A0}for ４５ DAYS. "), "claims stay open for 45 days.");
+        assert_eq!(
+            match_text("  Claims  stay\topen\u{00A0}for ４５ DAYS. "),
+            "claims stay open for 45 days."
+        );
         assert_eq!(match_text("ﬁle"), "file");
         // A different figure or word is a different sentence.
         assert_ne!(match_text("open for 45 days"), match_text("open for 46 days"));
@@ -122,17 +125,23 @@ mod tests {
         // Pinned: SHA-256 of "a-1\0s:claims stay open.\0unsupported" (computed with
         // Python's hashlib when this test was written).
         assert_eq!(a, "6f60c0819e32b4bc0911e11ff31d4b9508520cd4c0d4eb0b7a054204aafe867d");
-        assert_eq!(a, fingerprint(
+        assert_eq!(
+            a,
+            fingerprint(
                 "a-1",
                 &Subject::Sentence(match_text(" claims  STAY open. ")),
                 "unsupported",
                 1
-            ));
+            )
+        );
         assert_ne!(a, fingerprint("a-2", &s, "unsupported", 1));
         assert_ne!(a, fingerprint("a-1", &s, "partial", 1));
         assert_ne!(a, fingerprint("a-1", &s, "unsupported", 2));
         let c = Subject::Citation("faq.md".into());
         assert_ne!(fingerprint("a-1", &c, "dead", 1), fingerprint("a-1", &c, "dead", 2));
-        assert_ne!(fingerprint("a-1", &c, "dead", 1), fingerprint("a-1", &Subject::Answer, "dead", 1));
+        assert_ne!(
+            fingerprint("a-1", &c, "dead", 1),
+            fingerprint("a-1", &Subject::Answer, "dead", 1)
+        );
     }
 }

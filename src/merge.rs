@@ -32,7 +32,11 @@ use crate::shard::Shard;
 
 /// Joins the shard documents `parts` into one run. `command` is recorded as the merged
 /// run's command. Errors name the part and field at fault.
-pub fn merge(parts: &[RunFile], command: Vec<String>, generated_at: String) -> Result<Report, String> {
+pub fn merge(
+    parts: &[RunFile],
+    command: Vec<String>,
+    generated_at: String,
+) -> Result<Report, String> {
     let Some(first) = parts.first() else {
         return Err("merge needs at least one findings file".into());
     };
@@ -110,8 +114,8 @@ pub fn merge(parts: &[RunFile], command: Vec<String>, generated_at: String) -> R
         ));
     }
 
-    let config: Config = serde_json::from_value(f.config.clone())
-        .map_err(|e| format!("{name0}: config: {e}"))?;
+    let config: Config =
+        serde_json::from_value(f.config.clone()).map_err(|e| format!("{name0}: config: {e}"))?;
     let summary = crate::run::summarise(&config, &answers, &rejected, lines_read);
 
     Ok(Report {

@@ -154,8 +154,10 @@ mod tests {
     }
 
     fn config(min_rouge_l: Option<f64>, min_bleu: Option<f64>, fail_on: &[&str]) -> Config {
-        let mut c = Config::default();
-        c.regression = RegressionSettings { min_rouge_l, min_bleu };
+        let mut c = Config {
+            regression: RegressionSettings { min_rouge_l, min_bleu },
+            ..Config::default()
+        };
         c.gate.fail_on.extend(fail_on.iter().map(|s| s.to_string()));
         c
     }

@@ -36,8 +36,8 @@ use crate::findings::{
     AnswerFindings, DecisionRecord, Decisions, Flag, GateResult, InputFile, Inputs, RejectedLine,
     Report, ShardRecord, StoreProblemRecord, StoreRecord, Summary, Tool, Verdict, round6,
 };
-pub use crate::shard::Shard;
 use crate::report;
+pub use crate::shard::Shard;
 use crate::store::index::Index;
 use crate::store::{Store, StoreLimits};
 
@@ -303,7 +303,7 @@ pub fn check(inputs: &RunInputs, outputs: &Outputs, verbosity: Verbosity) -> Res
     let _ = used;
     write_outputs(&report, outputs)?;
     if verbosity != Verbosity::Quiet {
-        print_summary(&report, outputs, loaded.store_seconds, started.elapsed());
+        print_summary(&report, outputs, Some(loaded.store_seconds), started.elapsed());
     }
     Ok(if report.summary.gate.passed { Outcome::Pass } else { Outcome::GateFailed })
 }
@@ -523,7 +523,14 @@ pub fn write_outputs(report: &Report, outputs: &Outputs) -> Result<()> {
 }
 
 /// The terminal summary on stderr.
-pub fn print_summary(report: &Report, outputs: &Outputs, store_seconds: f64, elapsed: Duration) {
+///
+/// `store_seconds` is the time spent loading the store, where this process loaded it.
+pub fn print_summary(
+    report: &Report,
+    outputs: &Outputs,
+    store_seconds: Option<f64>,
+    elapsed: Duration,
+) {
     let s = &report.summary;
     let mut err = io::stderr().lock();
     let nonzero = |m: &BTreeMap<String, usize>| -> String {
@@ -531,9 +538,10 @@ pub fn print_summary(report: &Report, outputs: &Outputs, store_seconds: f64, ela
             m.iter().filter(|(_, n)| **n > 0).map(|(k, n)| format!("{k} {n}")).collect();
         if v.is_empty() { "none".into() } else { v.join(", ") }
     };
+    let loaded = store_seconds.map_or_else(String::new, |t| format!(" ({t:.2}s)"));
     let _ = writeln!(
         err,
-        "plumbline: {} answers checked, {} lines rejected ({} non-blank lines read); store {} documents ({store_seconds:.2}s)",
+        "plumbline: {} answers checked, {} lines rejected ({} non-blank lines read); store {} documents{loaded}",
         s.answers_checked, s.lines_rejected, s.lines_read, report.inputs.store.documents
     );
     let _ = writeln!(err, "  sentences: {}", nonzero(&s.verdicts));

@@ -39,9 +39,8 @@ pub fn read(path: &Path) -> Result<RunFile, String> {
 
 /// Parses findings JSON; the error names the line, column and field.
 pub fn parse(bytes: &[u8]) -> Result<Report, String> {
-    let value: serde_json::Value = serde_json::from_slice(bytes).map_err(|e| {
-        format!("line {}, column {}: not JSON: {e}", e.line(), e.column())
-    })?;
+    let value: serde_json::Value = serde_json::from_slice(bytes)
+        .map_err(|e| format!("line {}, column {}: not JSON: {e}", e.line(), e.column()))?;
     let Some(obj) = value.as_object() else {
         return Err("not a plumbline findings document: expected a JSON object".into());
     };

@@ -63,11 +63,13 @@ pub fn execute(args: &CompareArgs) -> Result<Outcome> {
         approved_drop: args.approved_drop,
         strict: args.strict,
     };
-    let c = compare::compare(&base, &new, settings, std::env::args().collect(), crate::run::utc_now());
+    let c =
+        compare::compare(&base, &new, settings, std::env::args().collect(), crate::run::utc_now());
     if let Some(path) = &args.json {
         let mut bytes = serde_json::to_vec_pretty(&c)?;
         bytes.push(b'\n');
-        report::write_atomic(path, &bytes).with_context(|| format!("writing {}", path.display()))?;
+        report::write_atomic(path, &bytes)
+            .with_context(|| format!("writing {}", path.display()))?;
     }
     if let Some(path) = &args.html {
         let html = report::compare_html::render(&c)?;
@@ -87,7 +89,10 @@ fn print_summary(c: &Comparison, args: &CompareArgs) {
     let _ = writeln!(
         err,
         "plumbline compare: {} (base, {} answers) → {} (new, {} answers)",
-        h.base.file.path, h.base.summary.answers_checked, h.new.file.path, h.new.summary.answers_checked
+        h.base.file.path,
+        h.base.summary.answers_checked,
+        h.new.file.path,
+        h.new.summary.answers_checked
     );
     let differ: Vec<&str> = [
         ("store", h.same.store),
@@ -100,12 +105,22 @@ fn print_summary(c: &Comparison, args: &CompareArgs) {
     .map(|(what, _)| *what)
     .collect();
     if !differ.is_empty() && differ != ["answers file"] {
-        let _ = writeln!(err, "  note: the runs differ in {}: not every change is the assistant's", differ.join(", "));
+        let _ = writeln!(
+            err,
+            "  note: the runs differ in {}: not every change is the assistant's",
+            differ.join(", ")
+        );
     }
     let _ = writeln!(
         err,
         "  answers: {} matched ({} regressed, {} mixed, {} improved, {} unchanged), {} new, {} gone",
-        s.answers_matched, s.answers_regressed, s.answers_mixed, s.answers_improved, s.answers_unchanged, s.answers_new, s.answers_gone
+        s.answers_matched,
+        s.answers_regressed,
+        s.answers_mixed,
+        s.answers_improved,
+        s.answers_unchanged,
+        s.answers_new,
+        s.answers_gone
     );
     let _ = writeln!(
         err,
@@ -115,9 +130,15 @@ fn print_summary(c: &Comparison, args: &CompareArgs) {
     let _ = writeln!(
         err,
         "  sentences: {} lower support, {} higher, {} added, {} removed; gate: {} passed → failed, {} failed → passed",
-        s.sentences_lower, s.sentences_higher, s.sentences_added, s.sentences_removed, s.passed_to_failed, s.failed_to_passed
+        s.sentences_lower,
+        s.sentences_higher,
+        s.sentences_added,
+        s.sentences_removed,
+        s.passed_to_failed,
+        s.failed_to_passed
     );
-    let _ = writeln!(err, "{}", if c.decision.worse { "new run: WORSE" } else { "new run: not worse" });
+    let _ =
+        writeln!(err, "{}", if c.decision.worse { "new run: WORSE" } else { "new run: not worse" });
     for r in &c.decision.reasons {
         let _ = writeln!(err, "  - {r}");
     }

@@ -53,7 +53,7 @@ pub fn execute(args: &MergeArgs) -> Result<Outcome> {
     run::write_outputs(&report, &outputs)?;
     if !args.quiet {
         eprintln!("plumbline merge: {} shards joined", parts.len());
-        run::print_summary(&report, &outputs, 0.0, started.elapsed());
+        run::print_summary(&report, &outputs, None, started.elapsed());
     }
     Ok(if report.summary.gate.passed { Outcome::Pass } else { Outcome::GateFailed })
 }

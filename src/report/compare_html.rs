@@ -199,7 +199,12 @@ fn side_view(s: &Side) -> SideView<'_> {
 }
 
 /// One row of the side-by-side figures. `higher_is_worse` says how a rise reads.
-fn figure(label: impl Into<String>, base: usize, new: usize, higher_is_worse: Option<bool>) -> FigureRow {
+fn figure(
+    label: impl Into<String>,
+    base: usize,
+    new: usize,
+    higher_is_worse: Option<bool>,
+) -> FigureRow {
     let d = new as i64 - base as i64;
     let tone = match (d.signum(), higher_is_worse) {
         (0, _) | (_, None) => "",
@@ -277,7 +282,12 @@ fn figures(b: &Summary, n: &Summary) -> Vec<FigureRow> {
         ap(n).map(|x| x.0),
         3,
     ));
-    rows.extend(mean_row("mean BLEU against approved answers", ap(b).map(|x| x.1), ap(n).map(|x| x.1), 1));
+    rows.extend(mean_row(
+        "mean BLEU against approved answers",
+        ap(b).map(|x| x.1),
+        ap(n).map(|x| x.1),
+        1,
+    ));
     rows
 }
 
@@ -331,7 +341,12 @@ fn answer_view(i: usize, a: &AnswerChange) -> AnswerView<'_> {
             .iter()
             .map(|s| {
                 let (change, label) = direction(s.change);
-                SentenceRow { change, label, base: s.base.as_ref().map(cell), new: s.new.as_ref().map(cell) }
+                SentenceRow {
+                    change,
+                    label,
+                    base: s.base.as_ref().map(cell),
+                    new: s.new.as_ref().map(cell),
+                }
             })
             .collect(),
         added: a.findings_added.iter().map(finding_view).collect(),
@@ -413,18 +428,54 @@ fn page(c: &Comparison) -> Page<'_> {
         changes: vec![
             ChangeRow { label: "matched answers", count: s.answers_matched, tone: "" },
             ChangeRow { label: "matched answers unchanged", count: s.answers_unchanged, tone: "" },
-            ChangeRow { label: "answers that passed and now fail", count: s.passed_to_failed, tone: "worse" },
-            ChangeRow { label: "answers that failed and now pass", count: s.failed_to_passed, tone: "better" },
+            ChangeRow {
+                label: "answers that passed and now fail",
+                count: s.passed_to_failed,
+                tone: "worse",
+            },
+            ChangeRow {
+                label: "answers that failed and now pass",
+                count: s.failed_to_passed,
+                tone: "better",
+            },
             ChangeRow { label: "added error findings", count: s.added_errors, tone: "worse" },
             ChangeRow { label: "added warnings", count: s.added_warnings, tone: "worse" },
-            ChangeRow { label: "resolved error findings", count: s.resolved_errors, tone: "better" },
+            ChangeRow {
+                label: "resolved error findings",
+                count: s.resolved_errors,
+                tone: "better",
+            },
             ChangeRow { label: "resolved warnings", count: s.resolved_warnings, tone: "better" },
-            ChangeRow { label: "sentences with lower support", count: s.sentences_lower, tone: "worse" },
-            ChangeRow { label: "sentences with higher support", count: s.sentences_higher, tone: "better" },
-            ChangeRow { label: "claim sentences only in the new run", count: s.sentences_added, tone: "" },
-            ChangeRow { label: "claim sentences only in the base run", count: s.sentences_removed, tone: "" },
-            ChangeRow { label: "lower agreement with the approved answer", count: s.approved_lower, tone: "worse" },
-            ChangeRow { label: "higher agreement with the approved answer", count: s.approved_higher, tone: "better" },
+            ChangeRow {
+                label: "sentences with lower support",
+                count: s.sentences_lower,
+                tone: "worse",
+            },
+            ChangeRow {
+                label: "sentences with higher support",
+                count: s.sentences_higher,
+                tone: "better",
+            },
+            ChangeRow {
+                label: "claim sentences only in the new run",
+                count: s.sentences_added,
+                tone: "",
+            },
+            ChangeRow {
+                label: "claim sentences only in the base run",
+                count: s.sentences_removed,
+                tone: "",
+            },
+            ChangeRow {
+                label: "lower agreement with the approved answer",
+                count: s.approved_lower,
+                tone: "worse",
+            },
+            ChangeRow {
+                label: "higher agreement with the approved answer",
+                count: s.approved_higher,
+                tone: "better",
+            },
         ],
         kinds,
         answers: c.answers.iter().enumerate().map(|(i, a)| answer_view(i, a)).collect(),

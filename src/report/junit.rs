@@ -36,7 +36,8 @@ pub fn cdata(s: &str) -> String {
     let clean: String = s
         .chars()
         .filter(|&c| {
-            matches!(c, '\t' | '\n' | '\r') || !((c as u32) < 0x20 || c == '\u{FFFE}' || c == '\u{FFFF}')
+            matches!(c, '\t' | '\n' | '\r')
+                || !((c as u32) < 0x20 || c == '\u{FFFE}' || c == '\u{FFFF}')
         })
         .collect();
     format!("<![CDATA[{}]]>", clean.replace("]]>", "]]]]><![CDATA[>"))

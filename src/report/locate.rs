@@ -170,7 +170,8 @@ fn skip_value(line: &str, i: usize) -> Option<usize> {
         }
         _ => {
             let mut j = i;
-            while j < b.len() && !matches!(b[j], b',' | b'}' | b']' | b' ' | b'\t' | b'\r' | b'\n') {
+            while j < b.len() && !matches!(b[j], b',' | b'}' | b']' | b' ' | b'\t' | b'\r' | b'\n')
+            {
                 j += 1;
             }
             Some(j)
@@ -201,10 +202,15 @@ fn decode_string(line: &str, start: usize) -> Option<(Decoded, usize)> {
                     b't' => '\t',
                     b'u' => {
                         let hi = hex4(b, i + 2)?;
-                        if (0xD800..0xDC00).contains(&hi) && b.get(i + 6) == Some(&b'\\') && b.get(i + 7) == Some(&b'u') {
+                        if (0xD800..0xDC00).contains(&hi)
+                            && b.get(i + 6) == Some(&b'\\')
+                            && b.get(i + 7) == Some(&b'u')
+                        {
                             let lo = hex4(b, i + 8)?;
                             if (0xDC00..0xE000).contains(&lo) {
-                                let c = char::from_u32(0x10000 + ((hi - 0xD800) << 10) + (lo - 0xDC00))?;
+                                let c = char::from_u32(
+                                    0x10000 + ((hi - 0xD800) << 10) + (lo - 0xDC00),
+                                )?;
                                 text.push(c);
                                 i += 12;
                                 continue;
@@ -251,7 +257,7 @@ mod tests {
         assert_eq!(&line[raw(3)..raw(5)], r"\u00e9");
         let q = d.text.find('"').unwrap();
         assert_eq!(&line[raw(q)..raw(q + 1)], "\\\"");
-        assert_eq!(&line[raw(d.text.len()) ..raw(d.text.len()) + 1], "\"");
+        assert_eq!(&line[raw(d.text.len())..raw(d.text.len()) + 1], "\"");
         // Not a boundary of the decoded text (inside é).
         assert_eq!(d.raw_offset(4), None);
     }
@@ -271,7 +277,9 @@ mod tests {
 
     #[test]
     fn broken_lines_give_nothing() {
-        for line in ["", "[]", r#"{"answer": 3}"#, r#"{"answer": "open"#, r#"{"id": "x"}"#, r#"{"a" "b"}"#] {
+        for line in
+            ["", "[]", r#"{"answer": 3}"#, r#"{"answer": "open"#, r#"{"id": "x"}"#, r#"{"a" "b"}"#]
+        {
             assert!(answer_member(line).is_none(), "{line}");
         }
     }

@@ -27,26 +27,66 @@ use crate::identity::{Subject, fingerprint};
 /// What a reviewer should do about a finding of each kind (the rule's help text).
 fn guidance(kind: &str) -> &'static str {
     match kind {
-        "unsupported" => "Read the evidence window in the HTML report. If the cited passage carries the sentence in other words, accept the finding with a reviewer decision; otherwise correct the answer or cite a passage that carries it.",
-        "partial" => "Find the part of the sentence the cited passage does not carry (unmarked words in the report's evidence) and check it against the source.",
-        "number_mismatch" => "Compare the figure in the sentence with the evidence: a changed amount, date, time or percentage is a factual error unless the source states it another way.",
-        "changed_term" => "Check the swapped word against the evidence: an opposite, another quantifier or another identifier changes what the sentence claims.",
-        "negation_mismatch" => "Check whether the sentence or its evidence is negated: the answer may say the opposite of its source.",
-        "restricted_match" => "The sentence closely matches a document the asking user may not read: treat it as a possible disclosure and review who may see the answer.",
-        "misattributed" => "Another document carries the sentence clearly better than the one cited: cite that document, or check why the cited one was used.",
-        "unknown_ref" => "A marker names a citation the answer does not carry: fix the marker or add the citation.",
-        "uncited" => "The sentence makes a claim without a citation marker while the answer uses markers elsewhere: add the citation or confirm the claim needs none.",
-        "dead" => "The cited document is not in the store (or the path leads outside it): fix the citation or add the document.",
-        "bad_locator" => "The citation's offsets or chunk do not resolve in the document: fix the locator.",
-        "quote_mismatch" => "The quoted text does not occur in the cited passage: the assistant may have misquoted its source.",
-        "stale" => "The document changed after the assistant saw it: check the answer against the current version.",
-        "forbidden" => "The asking user's groups may not read the cited document: an entitlement breach to review before release.",
-        "access_unknown" => "The cited document has no access list: give it one in the store's manifest so that entitlements can be decided.",
-        "principal_unknown" => "The asking user's groups are unknown: give them in the answer record or the principals file.",
-        "unused" => "The citation supports no sentence: remove it or tie it to the sentence it was meant for.",
-        "below_approved_rouge_l" => "ROUGE is recall-oriented: a low ROUGE-L says the answer leaves out or reorders much of the approved answer's wording. Compare the two answers; a faithful rewording can be accepted.",
-        "below_approved_bleu" => "BLEU is precision-oriented: a low BLEU says much of the answer's wording is not in the approved answer. Compare the two answers for added or changed claims.",
-        "rejected_line" => "The line could not be read as an answer; the reason names the field. Fix the assistant's log writer.",
+        "unsupported" => {
+            "Read the evidence window in the HTML report. If the cited passage carries the sentence in other words, accept the finding with a reviewer decision; otherwise correct the answer or cite a passage that carries it."
+        }
+        "partial" => {
+            "Find the part of the sentence the cited passage does not carry (unmarked words in the report's evidence) and check it against the source."
+        }
+        "number_mismatch" => {
+            "Compare the figure in the sentence with the evidence: a changed amount, date, time or percentage is a factual error unless the source states it another way."
+        }
+        "changed_term" => {
+            "Check the swapped word against the evidence: an opposite, another quantifier or another identifier changes what the sentence claims."
+        }
+        "negation_mismatch" => {
+            "Check whether the sentence or its evidence is negated: the answer may say the opposite of its source."
+        }
+        "restricted_match" => {
+            "The sentence closely matches a document the asking user may not read: treat it as a possible disclosure and review who may see the answer."
+        }
+        "misattributed" => {
+            "Another document carries the sentence clearly better than the one cited: cite that document, or check why the cited one was used."
+        }
+        "unknown_ref" => {
+            "A marker names a citation the answer does not carry: fix the marker or add the citation."
+        }
+        "uncited" => {
+            "The sentence makes a claim without a citation marker while the answer uses markers elsewhere: add the citation or confirm the claim needs none."
+        }
+        "dead" => {
+            "The cited document is not in the store (or the path leads outside it): fix the citation or add the document."
+        }
+        "bad_locator" => {
+            "The citation's offsets or chunk do not resolve in the document: fix the locator."
+        }
+        "quote_mismatch" => {
+            "The quoted text does not occur in the cited passage: the assistant may have misquoted its source."
+        }
+        "stale" => {
+            "The document changed after the assistant saw it: check the answer against the current version."
+        }
+        "forbidden" => {
+            "The asking user's groups may not read the cited document: an entitlement breach to review before release."
+        }
+        "access_unknown" => {
+            "The cited document has no access list: give it one in the store's manifest so that entitlements can be decided."
+        }
+        "principal_unknown" => {
+            "The asking user's groups are unknown: give them in the answer record or the principals file."
+        }
+        "unused" => {
+            "The citation supports no sentence: remove it or tie it to the sentence it was meant for."
+        }
+        "below_approved_rouge_l" => {
+            "ROUGE is recall-oriented: a low ROUGE-L says the answer leaves out or reorders much of the approved answer's wording. Compare the two answers; a faithful rewording can be accepted."
+        }
+        "below_approved_bleu" => {
+            "BLEU is precision-oriented: a low BLEU says much of the answer's wording is not in the approved answer. Compare the two answers for added or changed claims."
+        }
+        "rejected_line" => {
+            "The line could not be read as an answer; the reason names the field. Fix the assistant's log writer."
+        }
         _ => "",
     }
 }
@@ -84,7 +124,10 @@ pub fn render(report: &Report) -> serde_json::Result<Vec<u8>> {
 
 /// Renders the SARIF log; `columns` (from [`super::locate::locate`]) adds each sentence
 /// finding's column range.
-pub fn render_located(report: &Report, columns: Option<&SentenceColumns>) -> serde_json::Result<Vec<u8>> {
+pub fn render_located(
+    report: &Report,
+    columns: Option<&SentenceColumns>,
+) -> serde_json::Result<Vec<u8>> {
     let rules: Vec<Value> = KIND_DESCRIPTIONS
         .iter()
         .map(|(kind, desc)| {
@@ -125,9 +168,9 @@ pub fn render_located(report: &Report, columns: Option<&SentenceColumns>) -> ser
                     text.push_str(&format!(" Sentence {}: \"{}\"", s.index + 1, s.text));
                 }
             }
-            let cols = f
-                .sentence
-                .and_then(|i| columns.and_then(|c| c.get(&ai)).and_then(|v| v.get(i).copied().flatten()));
+            let cols = f.sentence.and_then(|i| {
+                columns.and_then(|c| c.get(&ai)).and_then(|v| v.get(i).copied().flatten())
+            });
             let level = match f.severity {
                 Severity::Error => "error",
                 Severity::Warning => "warning",

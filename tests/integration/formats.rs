@@ -88,7 +88,9 @@ fn xmllint(file: &Path) -> Option<Result<(), String>> {
                 std::env::var_os("PLUMBLINE_REQUIRE_TOOLS").is_none(),
                 "xmllint is required (PLUMBLINE_REQUIRE_TOOLS is set) but cannot run: {e}"
             );
-            eprintln!("NOTICE: xmllint not found ({e}); install Debian's libxml2-utils to validate JUnit against junit-4.xsd. Skipped.");
+            eprintln!(
+                "NOTICE: xmllint not found ({e}); install Debian's libxml2-utils to validate JUnit against junit-4.xsd. Skipped."
+            );
             None
         }
     }
@@ -125,7 +127,11 @@ fn junit_reads_back_with_a_junit_parser() {
         let rejected = findings["rejected"].as_array().expect("rejected");
         assert_eq!(suites.suites.len(), 1, "{name}");
         let suite = &suites.suites[0];
-        assert_eq!(suite.cases.len(), answers.len() + rejected.len(), "{name}: one case per answer and per rejected line");
+        assert_eq!(
+            suite.cases.len(),
+            answers.len() + rejected.len(),
+            "{name}: one case per answer and per rejected line"
+        );
         assert_eq!(suites.tests as usize, answers.len() + rejected.len());
         assert_eq!(suites.errors as usize, rejected.len());
         let failing = answers.iter().filter(|a| a["passed"] == false).count();
@@ -207,7 +213,8 @@ fn sarif_validates_against_the_oasis_schema() {
         bad["runs"][0]["results"][0].as_object_mut().unwrap().remove("message");
         assert!(!schema_errors(&v, &bad).is_empty(), "a result without message was accepted");
         let mut bad = doc.clone();
-        bad["runs"][0]["results"][0]["locations"][0]["physicalLocation"]["region"]["startLine"] = json!(0);
+        bad["runs"][0]["results"][0]["locations"][0]["physicalLocation"]["region"]["startLine"] =
+            json!(0);
         assert!(!schema_errors(&v, &bad).is_empty(), "line 0 was accepted");
     }
 }
@@ -227,7 +234,11 @@ fn sarif_rules_results_and_levels() {
     }
     for r in rules {
         for field in ["fullDescription", "help", "shortDescription"] {
-            assert!(r[field]["text"].as_str().is_some_and(|t| t.len() > 20), "{}: {field}", r["id"]);
+            assert!(
+                r[field]["text"].as_str().is_some_and(|t| t.len() > 20),
+                "{}: {field}",
+                r["id"]
+            );
         }
     }
     // One result per finding and per rejected line, each pointing at its rule.
@@ -245,7 +256,12 @@ fn sarif_rules_results_and_levels() {
             assert_eq!(r["level"], f["severity"], "level from the severity");
             assert_eq!(r["locations"][0]["physicalLocation"]["region"]["startLine"], a["line"]);
             assert_eq!(r["suppressions"].is_array(), f.get("accepted").is_some());
-            assert!(r["message"]["text"].as_str().unwrap().contains(f["message"].as_str().unwrap().trim_end_matches('.')));
+            assert!(
+                r["message"]["text"]
+                    .as_str()
+                    .unwrap()
+                    .contains(f["message"].as_str().unwrap().trim_end_matches('.'))
+            );
         }
     }
 }
@@ -275,13 +291,15 @@ fn sarif_columns_cover_the_sentence_in_the_answers_file() {
                 continue;
             };
             let s = &a["sentences"][i as usize];
-            let span = &a["answer"].as_str().unwrap()
-                [s["span"]["start"].as_u64().unwrap() as usize..s["span"]["end"].as_u64().unwrap() as usize];
+            let span = &a["answer"].as_str().unwrap()[s["span"]["start"].as_u64().unwrap() as usize
+                ..s["span"]["end"].as_u64().unwrap() as usize];
             let line = lines[a["line"].as_u64().unwrap() as usize - 1];
-            let (c0, c1) = (region["startColumn"].as_u64().unwrap(), region["endColumn"].as_u64().unwrap());
+            let (c0, c1) =
+                (region["startColumn"].as_u64().unwrap(), region["endColumn"].as_u64().unwrap());
             let raw = columns(line, c0 as usize, c1 as usize);
             // The raw JSON of the sentence decodes to the sentence (escapes aside).
-            let decoded: String = serde_json::from_str(&format!("\"{raw}\"")).expect("a JSON string piece");
+            let decoded: String =
+                serde_json::from_str(&format!("\"{raw}\"")).expect("a JSON string piece");
             assert_eq!(decoded, span);
             located += 1;
         }
@@ -348,5 +366,8 @@ fn sarif_fingerprints_survive_a_reordered_regenerated_log() {
     }
     // And a-0's finding on the same sentence text is a different result (another answer).
     assert!(second.iter().any(|(_, m, p)| m.starts_with("answer a-0") && !p1.contains_key(p)));
-    assert!(first.iter().any(|(k, _, _)| k == "dead") && first.iter().any(|(k, _, _)| k == "number_mismatch"));
+    assert!(
+        first.iter().any(|(k, _, _)| k == "dead")
+            && first.iter().any(|(k, _, _)| k == "number_mismatch")
+    );
 }

@@ -111,7 +111,10 @@ fn merged_shards_equal_the_single_run_byte_for_byte() {
             assert_eq!(r["shard"], json!({"k": k, "n": n, "hash": "fnv1a64(id) mod n"}));
             answers += r["answers"].as_array().unwrap().len();
             if k > 1 {
-                assert!(r["rejected"].as_array().unwrap().is_empty(), "only shard 1 reports rejected lines");
+                assert!(
+                    r["rejected"].as_array().unwrap().is_empty(),
+                    "only shard 1 reports rejected lines"
+                );
             }
             parts.push(p);
         }
@@ -126,14 +129,21 @@ fn merged_shards_equal_the_single_run_byte_for_byte() {
         }
         args.extend([&"--json" as &dyn AsRef<std::ffi::OsStr>, &merged, &"--html", &html]);
         let o = run(&args);
-        assert_eq!(code(&o), code(&single_out), "N = {n}: the gate decided on the whole: {}", stderr(&o));
+        assert_eq!(
+            code(&o),
+            code(&single_out),
+            "N = {n}: the gate decided on the whole: {}",
+            stderr(&o)
+        );
         let rebuilt = with_run_record_of(&merged, &single);
         assert!(
             rebuilt == single_bytes,
             "N = {n}: merged findings differ from the single run beyond the run record"
         );
         let page = std::fs::read_to_string(&html).unwrap();
-        assert!(page.contains("Merged from") && page.contains(&format!("{n} shard findings files")));
+        assert!(
+            page.contains("Merged from") && page.contains(&format!("{n} shard findings files"))
+        );
     }
 }
 
@@ -165,8 +175,14 @@ fn merge_refuses_parts_that_do_not_belong_together() {
 
     // Another config: the settings differ, and the field is named.
     std::fs::write(p("other.toml"), "[gate]\nmax_unsupported = 3\n").unwrap();
-    demo_check(&p("s2-other.json"), &["--shard", "2/3", "--config", p("other.toml").to_str().unwrap()]);
-    expect(merge(&["s1.json", "s2-other.json", "s3.json"]), &["s2-other.json", "config.gate.max_unsupported"]);
+    demo_check(
+        &p("s2-other.json"),
+        &["--shard", "2/3", "--config", p("other.toml").to_str().unwrap()],
+    );
+    expect(
+        merge(&["s1.json", "s2-other.json", "s3.json"]),
+        &["s2-other.json", "config.gate.max_unsupported"],
+    );
 
     // Another answers file.
     let mut log = std::fs::read_to_string(project("demo/answers.jsonl")).unwrap();
@@ -187,7 +203,10 @@ fn merge_refuses_parts_that_do_not_belong_together() {
         .output()
         .unwrap();
     assert!(matches!(code(&o), 0 | 1));
-    expect(merge(&["s1.json", "s2.json", "s3-other.json"]), &["s3-other.json", "inputs.answers.sha256"]);
+    expect(
+        merge(&["s1.json", "s2.json", "s3-other.json"]),
+        &["s3-other.json", "inputs.answers.sha256"],
+    );
 
     // A shard N of another run, a file that is not findings, a missing file, a field of
     // the wrong type, a newer format.
@@ -208,14 +227,18 @@ fn merge_refuses_parts_that_do_not_belong_together() {
     let mut v = read_json(&p("s2.json"));
     v["shard"]["k"] = json!(3);
     std::fs::write(p("relabelled.json"), v.to_string()).unwrap();
-    expect(merge(&["s1.json", "relabelled.json", "s2.json"]), &["relabelled.json", "answers[0].id", "hashes to shard 2 of 3"]);
+    expect(
+        merge(&["s1.json", "relabelled.json", "s2.json"]),
+        &["relabelled.json", "answers[0].id", "hashes to shard 2 of 3"],
+    );
 }
 
 // ---------------------------------------------------------------------------------------
 // Compare
 
 const WARRANTY: &str = "Warranty claims stay open for 45 days from the date of purchase. After that they close automatically.\n";
-const PARKING: &str = "Staff parking is free on weekdays. Visitors pay three pounds per hour at the north gate.\n";
+const PARKING: &str =
+    "Staff parking is free on weekdays. Visitors pay three pounds per hour at the north gate.\n";
 const BOARD: &str = "The board approved a bonus pool for the northern depots in March.\n";
 
 /// A store, principals and reviewer decisions shared by both runs of a comparison.
@@ -239,8 +262,11 @@ impl Pair {
             .to_string(),
         )
         .unwrap();
-        std::fs::write(dir.path().join("principals.json"), json!({"u-1": ["all-staff"]}).to_string())
-            .unwrap();
+        std::fs::write(
+            dir.path().join("principals.json"),
+            json!({"u-1": ["all-staff"]}).to_string(),
+        )
+        .unwrap();
         Pair { dir }
     }
 
@@ -392,7 +418,10 @@ fn compare_reports_every_kind_of_change() {
     assert_eq!(s["answers_gone"], 1);
     assert_eq!((s["rejected_base"].as_u64(), s["rejected_new"].as_u64()), (Some(0), Some(1)));
     assert_eq!(s["added_by_kind"]["rejected_line"], 1);
-    assert!(c["answers"].as_array().unwrap().iter().all(|a| a["id"] != "same"), "unchanged answers are not listed");
+    assert!(
+        c["answers"].as_array().unwrap().iter().all(|a| a["id"] != "same"),
+        "unchanged answers are not listed"
+    );
     assert_eq!(s["answers_unchanged"], 1);
 
     // Lower support on the same sentence: verdict down, an unsupported finding added.
@@ -400,7 +429,10 @@ fn compare_reports_every_kind_of_change() {
     assert_eq!(lower["state"], "regressed");
     let sc = &lower["sentences"][0];
     assert_eq!(sc["change"], "lower");
-    assert_eq!((sc["base"]["verdict"].as_str(), sc["new"]["verdict"].as_str()), (Some("supported"), Some("unsupported")));
+    assert_eq!(
+        (sc["base"]["verdict"].as_str(), sc["new"]["verdict"].as_str()),
+        (Some("supported"), Some("unsupported"))
+    );
     assert!(kinds(&lower["findings_added"]).contains(&"unsupported".to_owned()));
     assert!(lower["counted"].as_u64().unwrap() >= 1);
 
@@ -410,8 +442,16 @@ fn compare_reports_every_kind_of_change() {
     assert!(kinds(&dead["findings_added"]).contains(&"dead".to_owned()));
     let forbidden = entry(&c, "forbidden");
     assert!(kinds(&forbidden["findings_added"]).contains(&"forbidden".to_owned()));
-    let f = forbidden["findings_added"].as_array().unwrap().iter().find(|f| f["kind"] == "forbidden").unwrap();
-    assert_eq!((f["severity"].as_str(), f["subject"].as_str(), f["counted"].as_bool()), (Some("error"), Some("finance/board"), Some(true)));
+    let f = forbidden["findings_added"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|f| f["kind"] == "forbidden")
+        .unwrap();
+    assert_eq!(
+        (f["severity"].as_str(), f["subject"].as_str(), f["counted"].as_bool()),
+        (Some("error"), Some("finance/board"), Some(true))
+    );
     assert_eq!(forbidden["base"]["passed"], true);
     assert_eq!(forbidden["new"]["passed"], false);
 
@@ -420,7 +460,12 @@ fn compare_reports_every_kind_of_change() {
     assert_eq!(better["state"], "improved");
     assert!(kinds(&better["findings_resolved"]).contains(&"unsupported".to_owned()));
     assert!(better["findings_added"].as_array().unwrap().is_empty());
-    let changes: Vec<&str> = better["sentences"].as_array().unwrap().iter().map(|s| s["change"].as_str().unwrap()).collect();
+    let changes: Vec<&str> = better["sentences"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|s| s["change"].as_str().unwrap())
+        .collect();
     assert!(changes.contains(&"removed") && changes.contains(&"added"), "{changes:?}");
     assert!(s["failed_to_passed"].as_u64().unwrap() >= 1);
 
@@ -433,12 +478,20 @@ fn compare_reports_every_kind_of_change() {
     // Lower agreement with the approved answer, though every sentence is supported.
     let approved = entry(&c, "approved");
     assert_eq!(approved["approved"]["change"], "lower");
-    assert!(approved["approved"]["new"]["rougeL"].as_f64() < approved["approved"]["base"]["rougeL"].as_f64());
+    assert!(
+        approved["approved"]["new"]["rougeL"].as_f64()
+            < approved["approved"]["base"]["rougeL"].as_f64()
+    );
     assert_eq!(approved["counted"], 0, "lower agreement counts only with --strict");
 
     // A new error a reviewer accepted is listed, not counted.
     let waived = entry(&c, "waived");
-    let w = waived["findings_added"].as_array().unwrap().iter().find(|f| f["kind"] == "unsupported").unwrap();
+    let w = waived["findings_added"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|f| f["kind"] == "unsupported")
+        .unwrap();
     assert_eq!((w["accepted"].as_bool(), w["counted"].as_bool()), (Some(true), Some(false)));
 
     // New and gone answers.
@@ -447,11 +500,17 @@ fn compare_reports_every_kind_of_change() {
     assert!(fresh["base"].is_null() && !fresh["findings_added"].as_array().unwrap().is_empty());
     let gone = entry(&c, "gone");
     assert_eq!(gone["state"], "gone");
-    assert!(gone["findings_resolved"].as_array().unwrap().is_empty(), "a gone answer's findings are not resolved");
+    assert!(
+        gone["findings_resolved"].as_array().unwrap().is_empty(),
+        "a gone answer's findings are not resolved"
+    );
 
     // Order: regressed, mixed, new, improved, gone.
-    let order: Vec<&str> = c["answers"].as_array().unwrap().iter().map(|a| a["state"].as_str().unwrap()).collect();
-    let rank = |s: &str| ["regressed", "mixed", "new", "improved", "gone"].iter().position(|x| *x == s).unwrap();
+    let order: Vec<&str> =
+        c["answers"].as_array().unwrap().iter().map(|a| a["state"].as_str().unwrap()).collect();
+    let rank = |s: &str| {
+        ["regressed", "mixed", "new", "improved", "gone"].iter().position(|x| *x == s).unwrap()
+    };
     assert!(order.windows(2).all(|w| rank(w[0]) <= rank(w[1])), "{order:?}");
 
     // The counts add up: counted = counted added findings + added rejected lines.
@@ -463,7 +522,8 @@ fn compare_reports_every_kind_of_change() {
         .filter(|f| f["counted"] == true)
         .count() as u64;
     assert_eq!(c["decision"]["counted"].as_u64().unwrap(), counted_findings + 1);
-    let added: u64 = s["added_by_kind"].as_object().unwrap().values().map(|v| v.as_u64().unwrap()).sum();
+    let added: u64 =
+        s["added_by_kind"].as_object().unwrap().values().map(|v| v.as_u64().unwrap()).sum();
     assert_eq!(added, s["added_errors"].as_u64().unwrap() + s["added_warnings"].as_u64().unwrap());
 
     // The HTML page: every changed answer, both runs side by side, hostile text inert.
@@ -487,9 +547,17 @@ fn compare_reports_every_kind_of_change() {
         .and_then(|m| m.value().attr("content"))
         .unwrap_or_default()
         .to_owned();
-    assert!(csp.starts_with("default-src 'none';") && !csp.contains("script-src") && !csp.contains("unsafe"), "{csp}");
+    assert!(
+        csp.starts_with("default-src 'none';")
+            && !csp.contains("script-src")
+            && !csp.contains("unsafe"),
+        "{csp}"
+    );
     let body: String = page.select(&sel("main")).next().unwrap().text().collect();
-    assert!(body.contains("<script>document.title='INJECTED'</script>"), "hostile text shown as text");
+    assert!(
+        body.contains("<script>document.title='INJECTED'</script>"),
+        "hostile text shown as text"
+    );
     assert!(body.contains("<img src=x onerror=alert(1)>"));
     let ids: Vec<&str> = page.select(&sel("[id]")).filter_map(|e| e.value().attr("id")).collect();
     let unique: std::collections::HashSet<&&str> = ids.iter().collect();
@@ -510,11 +578,7 @@ fn compare_equal_runs_and_the_tolerance() {
     let p = Pair::new();
     let (base, new) = (base_run(&p), new_run(&p));
     // A run against itself, and against another run of the same inputs: no change, exit 0.
-    let again = p.check(
-        "base-again",
-        &read_jsonl(&p.path("base.jsonl")),
-        None,
-    );
+    let again = p.check("base-again", &read_jsonl(&p.path("base.jsonl")), None);
     for other in [&base, &again] {
         let (o, c, _) = p.compare(&base, other, &[]);
         assert_eq!(code(&o), 0, "{}", stderr(&o));
@@ -523,7 +587,10 @@ fn compare_equal_runs_and_the_tolerance() {
         assert!(c["answers"].as_array().unwrap().is_empty(), "{:#}", c["answers"]);
         let s = &c["summary"];
         assert_eq!(s["answers_unchanged"], s["answers_matched"]);
-        assert_eq!(c["comparison"]["same"], json!({"tool": true, "store": true, "config": true, "answers": true}));
+        assert_eq!(
+            c["comparison"]["same"],
+            json!({"tool": true, "store": true, "config": true, "answers": true})
+        );
     }
 
     // The tolerance: exactly the counted number passes, one fewer fails.
@@ -584,12 +651,16 @@ fn compare_refuses_bad_files_naming_them() {
     expect(p.compare(&base, &missing, &[]).0, &["cannot read", "missing.json"]);
     std::fs::write(p.path("trunc.json"), "{\"tool\": ").unwrap();
     expect(p.compare(&p.path("trunc.json"), &base, &[]).0, &["trunc.json", "not JSON"]);
-    std::fs::write(p.path("log.sarif"), json!({"version": "2.1.0", "runs": []}).to_string()).unwrap();
+    std::fs::write(p.path("log.sarif"), json!({"version": "2.1.0", "runs": []}).to_string())
+        .unwrap();
     expect(p.compare(&base, &p.path("log.sarif"), &[]).0, &["log.sarif", "SARIF log"]);
     let mut v = read_json(&base);
     v["answers"][0]["sentences"][0]["verdict"] = json!("maybe");
     std::fs::write(p.path("shape.json"), v.to_string()).unwrap();
-    expect(p.compare(&base, &p.path("shape.json"), &[]).0, &["shape.json", "answers[0].sentences[0].verdict"]);
+    expect(
+        p.compare(&base, &p.path("shape.json"), &[]).0,
+        &["shape.json", "answers[0].sentences[0].verdict"],
+    );
     expect(p.compare(&base, &base, &["--score-drop", "2"]).0, &["--score-drop"]);
     // A comparison result is not a findings document.
     let (_, _, _) = p.compare(&base, &base, &[]);
@@ -658,7 +729,11 @@ fn approved_answer_thresholds_flag_count_and_gate() {
         assert!(ap[k].is_number(), "{k}");
     }
     assert!(kinds_of(&v, "far").is_empty());
-    assert!(html.contains("id=\"approved-measures\"") && html.contains("recall-oriented") && html.contains("precision-oriented"));
+    assert!(
+        html.contains("id=\"approved-measures\"")
+            && html.contains("recall-oriented")
+            && html.contains("precision-oriented")
+    );
 
     // Thresholds set: the far answer is flagged (a warning), the gate still passes.
     let cfg = "[regression]\nmin_rouge_l = 0.5\nmin_bleu = 30\n";
@@ -667,7 +742,10 @@ fn approved_answer_thresholds_flag_count_and_gate() {
     assert_eq!(kinds_of(&v, "far"), ["below_approved_rouge_l", "below_approved_bleu"]);
     assert!(kinds_of(&v, "close").is_empty() && kinds_of(&v, "none").is_empty());
     let ap = &v["summary"]["approved"];
-    assert_eq!((ap["below_rouge_l"].as_u64(), ap["share_below_rouge_l"].as_f64()), (Some(1), Some(0.5)));
+    assert_eq!(
+        (ap["below_rouge_l"].as_u64(), ap["share_below_rouge_l"].as_f64()),
+        (Some(1), Some(0.5))
+    );
     assert_eq!((ap["below_bleu"].as_u64(), ap["min_bleu"].as_f64()), (Some(1), Some(30.0)));
     assert_eq!(v["summary"]["warnings"], 2);
     let page = Html::parse_document(&html);
@@ -684,7 +762,9 @@ fn approved_answer_thresholds_flag_count_and_gate() {
     assert_eq!(code2, 1);
     let far = v["answers"].as_array().unwrap().iter().find(|a| a["id"] == "far").unwrap();
     assert_eq!(far["passed"], false);
-    assert!(v["summary"]["gate"]["reasons"][0].as_str().unwrap().contains("below_approved_rouge_l ×1"));
+    assert!(
+        v["summary"]["gate"]["reasons"][0].as_str().unwrap().contains("below_approved_rouge_l ×1")
+    );
     // ... unless a reviewer waived it.
     let waiver = json!({"answer": "far", "finding": "below_approved_rouge_l", "by": "rev-2", "note": "reworded on purpose"});
     let (code3, v, _, _) = check(&gated, Some(&format!("{waiver}\n")));
