@@ -457,6 +457,12 @@ fn answer_side(a: &AnswerFindings) -> AnswerSide {
     }
 }
 
+/// Whether a change `d` reaches the step `step` (`d == step` counts, within the rounding of
+/// six-decimal scores); a step of 0 counts any change.
+fn at_least(d: f64, step: f64) -> bool {
+    if step > 0.0 { d >= step - 1e-9 } else { d > 1e-9 }
+}
+
 /// Compares one matched answer; `None` when nothing changed.
 fn compare_answer(
     b: &AnswerFindings,
@@ -477,8 +483,12 @@ fn compare_answer(
         let change = match (rank(x.verdict), rank(y.verdict)) {
             (Some(rx), Some(ry)) if ry < rx => Some(Direction::Lower),
             (Some(rx), Some(ry)) if ry > rx => Some(Direction::Higher),
-            (Some(_), Some(_)) if y.score <= x.score - st.score_drop => Some(Direction::Lower),
-            (Some(_), Some(_)) if y.score >= x.score + st.score_drop => Some(Direction::Higher),
+            (Some(_), Some(_)) if at_least(x.score - y.score, st.score_drop) => {
+                Some(Direction::Lower)
+            }
+            (Some(_), Some(_)) if at_least(y.score - x.score, st.score_drop) => {
+                Some(Direction::Higher)
+            }
             _ => None,
         };
         match change {
@@ -567,7 +577,7 @@ fn compare_answer(
 
     // Approved answer.
     let approved = match (&b.approved, &n.approved) {
-        (Some(x), Some(y)) if y.rouge_l <= x.rouge_l - st.approved_drop => {
+        (Some(x), Some(y)) if at_least(x.rouge_l - y.rouge_l, st.approved_drop) => {
             worse = true;
             sum.approved_lower += 1;
             if st.strict {
@@ -579,7 +589,7 @@ fn compare_answer(
                 new: Some(y.clone()),
             })
         }
-        (Some(x), Some(y)) if y.rouge_l >= x.rouge_l + st.approved_drop => {
+        (Some(x), Some(y)) if at_least(y.rouge_l - x.rouge_l, st.approved_drop) => {
             better = true;
             sum.approved_higher += 1;
             Some(ApprovedChange {
@@ -793,6 +803,82 @@ fn decide(
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::findings::{Flag, Span};
+
+    fn sentence(index: usize, text: &str, verdict: Verdict, score: f64) -> SentenceFindings {
+        SentenceFindings {
+            index,
+            text: text.into(),
+            span: Span { start: 0, end: text.len() },
+            refs: vec!["1".into()],
+            verdict,
+            score,
+            flags: Vec::<Flag>::new(),
+            evidence: None,
+            cited_evidence: None,
+            figures: Vec::new(),
+            changed_terms: Vec::new(),
+        }
+    }
+
+    fn answer(sentences: Vec<SentenceFindings>, approved: Option<f64>) -> AnswerFindings {
+        AnswerFindings {
+            id: "a".into(),
+            line: 1,
+            user: None,
+            groups: None,
+            question: None,
+            answer: String::new(),
+            passed: true,
+            sentences,
+            citations: Vec::new(),
+            findings: Vec::new(),
+            approved: approved.map(|r| ApprovedComparison {
+                rouge1: r,
+                rouge2: r,
+                rouge_l: r,
+                bleu: r * 100.0,
+            }),
+        }
+    }
+
+    #[test]
+    fn score_steps_and_approved_drop() {
+        let st = Settings::default();
+        let base =
+            answer(vec![sentence(0, "Claims stay open.", Verdict::Supported, 0.95)], Some(0.8));
+        // Within the step: no change at all.
+        let near =
+            answer(vec![sentence(0, "claims  stay OPEN.", Verdict::Supported, 0.92)], Some(0.78));
+        let mut sum = ChangeSummary::default();
+        assert!(compare_answer(&base, &near, &st, &mut sum).is_none());
+        assert_eq!(sum.answers_unchanged, 1);
+        // A drop of the step or more, same verdict: lower support; and lower agreement.
+        let lower =
+            answer(vec![sentence(0, "Claims stay open.", Verdict::Supported, 0.90)], Some(0.70));
+        let mut sum = ChangeSummary::default();
+        let c = compare_answer(&base, &lower, &st, &mut sum).expect("a change");
+        assert_eq!(c.state, AnswerState::Regressed);
+        assert_eq!(c.sentences[0].change, Direction::Lower);
+        assert_eq!(c.approved.as_ref().map(|a| a.change), Some(Direction::Lower));
+        assert_eq!((sum.sentences_lower, sum.approved_lower), (1, 1));
+        assert_eq!(c.counted, 0, "not counted unless strict");
+        let strict = Settings { strict: true, ..st };
+        let c = compare_answer(&base, &lower, &strict, &mut ChangeSummary::default()).unwrap();
+        assert_eq!(c.counted, 2);
+        // A higher score with the same verdict the other way.
+        let c = compare_answer(&lower, &base, &st, &mut ChangeSummary::default()).unwrap();
+        assert_eq!((c.state, c.sentences[0].change), (AnswerState::Improved, Direction::Higher));
+        // A step of 0 counts any change, and only a change.
+        let zero = Settings { score_drop: 0.0, approved_drop: 0.0, ..st };
+        assert!(compare_answer(&base, &base, &zero, &mut ChangeSummary::default()).is_none());
+        let c = compare_answer(&base, &near, &zero, &mut ChangeSummary::default()).unwrap();
+        assert_eq!(c.sentences[0].change, Direction::Lower);
+        // A no-claim sentence is never lower or higher.
+        let a = answer(vec![sentence(0, "Hello!", Verdict::NoClaim, 0.0)], None);
+        let b = answer(vec![sentence(0, "Hello!", Verdict::Supported, 1.0)], None);
+        assert!(compare_answer(&a, &b, &st, &mut ChangeSummary::default()).is_none());
+    }
 
     #[test]
     fn pairing_is_in_order_within_a_key() {

@@ -31,10 +31,10 @@ pub struct CompareArgs {
     /// answers that now fail, lower agreement with approved answers.
     #[arg(long)]
     pub strict: bool,
-    /// Fall in a sentence's support score that counts as lower support.
+    /// Fall in a sentence's support score that counts as lower support (0: any fall).
     #[arg(long, value_name = "X", default_value_t = Settings::default().score_drop)]
     pub score_drop: f64,
-    /// Fall in ROUGE-L F against the approved answer that counts as lower agreement.
+    /// Fall in ROUGE-L F against the approved answer that counts as lower agreement (0: any).
     #[arg(long, value_name = "X", default_value_t = Settings::default().approved_drop)]
     pub approved_drop: f64,
     /// Write the comparison as JSON; `-` for stdout.
@@ -57,6 +57,17 @@ pub fn execute(args: &CompareArgs) -> Result<Outcome> {
     }
     let base = runfile::read(&args.base).map_err(UsageError)?;
     let new = runfile::read(&args.new).map_err(UsageError)?;
+    for f in [&base, &new] {
+        // A shard holds part of a log: compared with a whole run, everything else would
+        // look gone or new.
+        if let Some(s) = f.report.shard.as_ref().filter(|s| s.n > 1) {
+            return Err(UsageError(format!(
+                "{}: shard: the findings of shard {} of {} only; join the shards with `plumbline merge` and compare the merged findings",
+                f.file.path, s.k, s.n
+            ))
+            .into());
+        }
+    }
     let settings = Settings {
         tolerance: args.tolerance,
         score_drop: args.score_drop,

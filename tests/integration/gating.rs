@@ -662,6 +662,22 @@ fn compare_refuses_bad_files_naming_them() {
         &["shape.json", "answers[0].sentences[0].verdict"],
     );
     expect(p.compare(&base, &base, &["--score-drop", "2"]).0, &["--score-drop"]);
+    // A shard's findings are not a whole run.
+    let shard = p.path("shard.json");
+    let o = Command::new(BIN)
+        .args(["check", "--quiet", "--shard", "2/3", "--store"])
+        .arg(p.path("store"))
+        .arg("--answers")
+        .arg(p.path("base.jsonl"))
+        .arg("--json")
+        .arg(&shard)
+        .output()
+        .unwrap();
+    assert!(matches!(code(&o), 0 | 1));
+    expect(
+        p.compare(&base, &shard, &[]).0,
+        &["shard.json", "shard 2 of 3 only", "plumbline merge"],
+    );
     // A comparison result is not a findings document.
     let (_, _, _) = p.compare(&base, &base, &[]);
     std::fs::copy(p.path("cmp.json"), p.path("result.json")).unwrap();
