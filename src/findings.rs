@@ -260,6 +260,11 @@ pub struct SentenceFindings {
     pub flags: Vec<Flag>,
     /// Best supporting window, or null.
     pub evidence: Option<Evidence>,
+    /// When the sentence cites several passages and takes a part from each, the windows
+    /// of the other passages that carry the rest (`evidence` holds the first part and
+    /// the score of the parts together).
+    #[serde(skip_serializing_if = "Vec::is_empty", default)]
+    pub also_evidence: Vec<Evidence>,
     /// The best window among the cited passages, when `evidence` names another document.
     #[serde(skip_serializing_if = "Option::is_none", default)]
     pub cited_evidence: Option<Evidence>,

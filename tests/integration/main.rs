@@ -8,6 +8,7 @@ mod check;
 mod formats;
 mod gating;
 mod confinement;
+mod demo;
 mod cli;
 mod common;
 mod harness;

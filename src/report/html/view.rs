@@ -273,6 +273,8 @@ pub struct SentenceView<'a> {
     /// Why the verdict is lower than the score alone would give.
     pub lowered: Option<String>,
     pub evidence: Option<EvidenceView<'a>>,
+    /// Windows of further cited passages that carry the rest of the sentence.
+    pub also_evidence: Vec<EvidenceView<'a>>,
     pub cited_evidence: Option<EvidenceView<'a>>,
 }
 
@@ -937,6 +939,7 @@ fn sentence_view<'a>(
         elsewhere,
         lowered: lowered(s, config),
         evidence: s.evidence.as_ref().map(evidence_view),
+        also_evidence: s.also_evidence.iter().map(evidence_view).collect(),
         cited_evidence: s.cited_evidence.as_ref().map(evidence_view),
     }
 }
