@@ -815,6 +815,7 @@ mod tests {
             score,
             flags: Vec::<Flag>::new(),
             evidence: None,
+            also_evidence: Vec::new(),
             cited_evidence: None,
             figures: Vec::new(),
             changed_terms: Vec::new(),
