@@ -39,32 +39,69 @@ pub fn read(path: &Path) -> Result<RunFile, String> {
 
 /// Parses findings JSON; the error names the line, column and field.
 pub fn parse(bytes: &[u8]) -> Result<Report, String> {
-    let value: serde_json::Value = serde_json::from_slice(bytes)
-        .map_err(|e| format!("line {}, column {}: not JSON: {e}", e.line(), e.column()))?;
+    let mut de = serde_json::Deserializer::from_slice(bytes);
+    let typed: Result<Report, _> = serde_path_to_error::deserialize(&mut de);
+    let report = match typed {
+        Ok(r) => r,
+        // Not a findings document of this shape: say what it is, if it is something else
+        // we know, else where and which field.
+        Err(e) => return Err(explain(bytes).unwrap_or_else(|| located(&e))),
+    };
+    de.end().map_err(|e| {
+        format!("line {}, column {}: not JSON: {}", e.line(), e.column(), message(&e))
+    })?;
+    if report.tool.name != "plumbline" {
+        return Err(format!("tool.name: written by {:?}, not by plumbline", report.tool.name));
+    }
+    check_version(&report.tool.version)?;
+    Ok(report)
+}
+
+fn located(e: &serde_path_to_error::Error<serde_json::Error>) -> String {
+    let inner = e.inner();
+    let field = e.path().to_string();
+    let at = format!("line {}, column {}", inner.line(), inner.column());
+    let what = message(inner);
+    if inner.is_syntax() || inner.is_eof() {
+        format!("{at}: not JSON: {what}")
+    } else if field == "." {
+        format!("{at}: {what}")
+    } else {
+        format!("{at}: {field}: {what}")
+    }
+}
+
+/// A JSON error's message without the position serde_json appends (it is given first).
+fn message(e: &serde_json::Error) -> String {
+    let text = e.to_string();
+    let suffix = format!(" at line {} column {}", e.line(), e.column());
+    text.strip_suffix(&suffix).map_or_else(|| text.clone(), str::to_owned)
+}
+
+/// Why a document that is not a findings document of this shape is something else: not an
+/// object, a SARIF log, a comparison, a document without `tool`, another tool's, or a
+/// newer plumbline's. `None` when it looks like findings (the field error then speaks).
+fn explain(bytes: &[u8]) -> Option<String> {
+    let value: serde_json::Value = serde_json::from_slice(bytes).ok()?;
     let Some(obj) = value.as_object() else {
-        return Err("not a plumbline findings document: expected a JSON object".into());
+        return Some("not a plumbline findings document: expected a JSON object".into());
     };
     if obj.contains_key("runs") && obj.contains_key("version") {
-        return Err("this is a SARIF log, not a findings document: give the file written by `check --json` or `merge --json`".into());
+        return Some("this is a SARIF log, not a findings document: give the file written by `check --json` or `merge --json`".into());
     }
     if obj.contains_key("comparison") {
-        return Err("this is a `compare --json` result, not a findings document: give the file written by `check --json` or `merge --json`".into());
+        return Some("this is a `compare --json` result, not a findings document: give the file written by `check --json` or `merge --json`".into());
     }
-    let tool: Tool = match obj.get("tool") {
-        Some(t) => serde_json::from_value(t.clone())
-            .map_err(|e| format!("tool: {e}; not a plumbline findings document?"))?,
-        None => {
-            return Err("not a plumbline findings document (no `tool` field): give the file written by `check --json` or `merge --json`".into());
-        }
+    let Some(tool) = obj.get("tool") else {
+        return Some("not a plumbline findings document (no `tool` field): give the file written by `check --json` or `merge --json`".into());
     };
-    if tool.name != "plumbline" {
-        return Err(format!("tool.name: written by {:?}, not by plumbline", tool.name));
+    match serde_json::from_value::<Tool>(tool.clone()) {
+        Err(e) => Some(format!("tool: {e}; not a plumbline findings document?")),
+        Ok(t) if t.name != "plumbline" => {
+            Some(format!("tool.name: written by {:?}, not by plumbline", t.name))
+        }
+        Ok(t) => check_version(&t.version).err(),
     }
-    check_version(&tool.version)?;
-    serde_path_to_error::deserialize(value).map_err(|e| {
-        let field = e.path().to_string();
-        format!("{field}: {}", e.inner())
-    })
 }
 
 /// `major.minor.patch` of a version string (pre-release and build parts ignored).
@@ -110,7 +147,8 @@ mod tests {
 
     #[test]
     fn wrong_shapes_name_the_field() {
-        assert!(parse(b"{").unwrap_err().starts_with("line 1, column 1: not JSON"));
+        let e = parse(b"{").unwrap_err();
+        assert!(e.starts_with("line 1, column 1: not JSON"), "{e}");
         assert!(parse(b"[]").unwrap_err().contains("expected a JSON object"));
         assert!(parse(br#"{"version": "2.1.0", "runs": []}"#).unwrap_err().contains("SARIF log"));
         assert!(parse(br#"{"answers": []}"#).unwrap_err().contains("no `tool` field"));
@@ -120,7 +158,11 @@ mod tests {
         let partial = format!(
             r#"{{"tool": {{"name": "plumbline", "version": "{v}"}}, "generated_at": "x", "command": [], "inputs": {{"answers": {{"path": "a", "size": "big", "sha256": "0"}}}}}}"#
         );
+        let top = format!(r#"{{"tool": {{"name": "plumbline", "version": "{v}"}}}}"#);
+        let e = parse(top.as_bytes()).unwrap_err();
+        assert!(e.ends_with("missing field `generated_at`") && !e.contains("not JSON"), "{e}");
         let e = parse(partial.as_bytes()).unwrap_err();
-        assert!(e.starts_with("inputs.answers.size: invalid type: string"), "{e}");
+        assert!(e.starts_with("line 1, column "), "{e}");
+        assert!(e.contains(": inputs.answers.size: invalid type: string"), "{e}");
     }
 }
