@@ -701,6 +701,15 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
             bleu: round6(bleu::sentence_bleu(&text, &[approved]).score),
         }
     });
+    // Approved-answer regression: its findings, their waivers and their gate.
+    let passed = crate::regression::apply(
+        ctx.config,
+        ctx.decisions,
+        &answer.id,
+        approved.as_ref(),
+        &mut findings,
+        &mut used_decisions,
+    ) && passed;
 
     Checked {
         findings: AnswerFindings {

@@ -5,6 +5,8 @@
 //! that define the metrics.
 
 mod check;
+mod formats;
+mod gating;
 mod confinement;
 mod demo;
 mod cli;

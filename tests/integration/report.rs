@@ -449,6 +449,9 @@ fn synthetic_report(n: usize) -> Report {
         tool: Tool::default(),
         generated_at: "2026-01-01T00:00:00Z".into(),
         command: vec!["plumbline".into(), "check".into()],
+        shard: None,
+        merged_from: Vec::new(),
+        redact_restricted: false,
         inputs: Inputs {
             answers: file("answers.jsonl"),
             principals: None,
