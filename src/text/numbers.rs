@@ -354,6 +354,28 @@ re!(
     r"\b(?:zero|one|two|three|four|five|six|seven|eight|nine|ten|eleven|twelve|thirteen|fourteen|fifteen|sixteen|seventeen|eighteen|nineteen|twenty|thirty|forty|fifty|sixty|seventy|eighty|ninety|hundred|thousand|million|billion)\b(?:(?:-| | and )(?:zero|one|two|three|four|five|six|seven|eight|nine|ten|eleven|twelve|thirteen|fourteen|fifteen|sixteen|seventeen|eighteen|nineteen|twenty|thirty|forty|fifty|sixty|seventy|eighty|ninety|hundred|thousand|million|billion)\b)*"
 );
 
+/// The patterns that need a digit, as one set: a single scan says which of them can
+/// match at all, and only those are run for their captures.
+static DIGIT_PATTERNS: LazyLock<regex::RegexSet> = LazyLock::new(|| {
+    regex::RegexSet::new([
+        ISO_DATE.as_str(),
+        DAY_MONTH_YEAR.as_str(),
+        MONTH_DAY_YEAR.as_str(),
+        MONTH_YEAR.as_str(),
+        TIME_COLON.as_str(),
+        TIME_DOT_MERIDIEM.as_str(),
+        TIME_HOUR_MERIDIEM.as_str(),
+        MONEY_SYMBOL.as_str(),
+        MONEY_CODE_BEFORE.as_str(),
+        MONEY_CODE_AFTER.as_str(),
+        PERCENT.as_str(),
+        VERSION.as_str(),
+        ORDINAL.as_str(),
+        PLAIN.as_str(),
+    ])
+    .unwrap_or_else(|e| panic!("figure pattern set: {e}"))
+});
+
 /// Finds every figure in `text` (expected to be normalised: lower-case, ASCII quotes and
 /// dashes). Overlapping readings are resolved leftmost, then longest, then by kind
 /// (dates, times, amounts, percentages, versions, numbers).
@@ -368,7 +390,8 @@ pub fn find_figures(text: &str) -> Vec<Figure> {
 
     // Every pattern but the spelled numbers needs a digit; most sentences have none.
     if text.bytes().any(|b| b.is_ascii_digit()) {
-        for c in ISO_DATE.captures_iter(text) {
+        let hits = DIGIT_PATTERNS.matches(text);
+        for c in hits.matched(0).then(|| ISO_DATE.captures_iter(text)).into_iter().flatten() {
             if let (Some(y), Some(mo), Some(d)) = (num(c.get(1)), num(c.get(2)), num(c.get(3))) {
                 if let Some(v) = date_value(Some(y), mo, Some(d)) {
                     let m = c.get(0).map_or(0..0, |m| m.range());
@@ -376,7 +399,7 @@ pub fn find_figures(text: &str) -> Vec<Figure> {
                 }
             }
         }
-        for c in DAY_MONTH_YEAR.captures_iter(text) {
+        for c in hits.matched(1).then(|| DAY_MONTH_YEAR.captures_iter(text)).into_iter().flatten() {
             let month = c.get(2).and_then(|m| month_number(m.as_str()));
             if let (Some(d), Some(mo)) = (num(c.get(1)), month) {
                 if let Some(v) = date_value(num(c.get(3)), mo, Some(d)) {
@@ -385,7 +408,7 @@ pub fn find_figures(text: &str) -> Vec<Figure> {
                 }
             }
         }
-        for c in MONTH_DAY_YEAR.captures_iter(text) {
+        for c in hits.matched(2).then(|| MONTH_DAY_YEAR.captures_iter(text)).into_iter().flatten() {
             let month = c.get(1).and_then(|m| month_number(m.as_str()));
             // "may 5" without a year is too often the verb; require the year for "may".
             let is_may = c.get(1).is_some_and(|m| m.as_str() == "may");
@@ -399,7 +422,7 @@ pub fn find_figures(text: &str) -> Vec<Figure> {
                 }
             }
         }
-        for c in MONTH_YEAR.captures_iter(text) {
+        for c in hits.matched(3).then(|| MONTH_YEAR.captures_iter(text)).into_iter().flatten() {
             let month = c.get(1).and_then(|m| month_number(m.as_str()));
             if let (Some(mo), Some(y)) = (month, num(c.get(2))) {
                 if let Some(v) = date_value(Some(y), mo, None) {
@@ -417,7 +440,7 @@ pub fn find_figures(text: &str) -> Vec<Figure> {
             };
             (h < 24 && mi < 60).then(|| format!("{h:02}:{mi:02}"))
         };
-        for c in TIME_COLON.captures_iter(text) {
+        for c in hits.matched(4).then(|| TIME_COLON.captures_iter(text)).into_iter().flatten() {
             if let (Some(h), Some(mi)) = (num(c.get(1)), num(c.get(2))) {
                 if let Some(v) = clock(h, mi, c.get(3).map(|m| m.as_str())) {
                     let m = c.get(0).map_or(0..0, |m| m.range());
@@ -425,7 +448,9 @@ pub fn find_figures(text: &str) -> Vec<Figure> {
                 }
             }
         }
-        for c in TIME_DOT_MERIDIEM.captures_iter(text) {
+        for c in
+            hits.matched(5).then(|| TIME_DOT_MERIDIEM.captures_iter(text)).into_iter().flatten()
+        {
             if let (Some(h), Some(mi)) = (num(c.get(1)), num(c.get(2))) {
                 if let Some(v) = clock(h, mi, c.get(3).map(|m| m.as_str())) {
                     let m = c.get(0).map_or(0..0, |m| m.range());
@@ -433,7 +458,9 @@ pub fn find_figures(text: &str) -> Vec<Figure> {
                 }
             }
         }
-        for c in TIME_HOUR_MERIDIEM.captures_iter(text) {
+        for c in
+            hits.matched(6).then(|| TIME_HOUR_MERIDIEM.captures_iter(text)).into_iter().flatten()
+        {
             if let Some(h) = num(c.get(1)) {
                 if let Some(v) = clock(h, 0, c.get(2).map(|m| m.as_str())) {
                     let m = c.get(0).map_or(0..0, |m| m.range());
@@ -448,7 +475,7 @@ pub fn find_figures(text: &str) -> Vec<Figure> {
                 None => v,
             }
         };
-        for c in MONEY_SYMBOL.captures_iter(text) {
+        for c in hits.matched(7).then(|| MONEY_SYMBOL.captures_iter(text)).into_iter().flatten() {
             if let (Some(sym), Some(n)) = (c.get(1), c.get(2)) {
                 let code = currency_code(sym.as_str()).unwrap_or("USD");
                 let m = c.get(0).map_or(0..0, |m| m.range());
@@ -461,7 +488,9 @@ pub fn find_figures(text: &str) -> Vec<Figure> {
                 );
             }
         }
-        for c in MONEY_CODE_BEFORE.captures_iter(text) {
+        for c in
+            hits.matched(8).then(|| MONEY_CODE_BEFORE.captures_iter(text)).into_iter().flatten()
+        {
             if let (Some(code), Some(n)) =
                 (c.get(1).and_then(|m| currency_code(m.as_str())), c.get(2))
             {
@@ -475,7 +504,8 @@ pub fn find_figures(text: &str) -> Vec<Figure> {
                 );
             }
         }
-        for c in MONEY_CODE_AFTER.captures_iter(text) {
+        for c in hits.matched(9).then(|| MONEY_CODE_AFTER.captures_iter(text)).into_iter().flatten()
+        {
             if let (Some(n), Some(code)) =
                 (c.get(1), c.get(3).and_then(|m| currency_code(m.as_str())))
             {
@@ -489,22 +519,22 @@ pub fn find_figures(text: &str) -> Vec<Figure> {
                 );
             }
         }
-        for c in PERCENT.captures_iter(text) {
+        for c in hits.matched(10).then(|| PERCENT.captures_iter(text)).into_iter().flatten() {
             if let Some(n) = c.get(1) {
                 let m = c.get(0).map_or(0..0, |m| m.range());
                 push(FigureKind::Percent, canonical_decimal(n.as_str()), m.start, m.end, 3);
             }
         }
-        for m in VERSION.find_iter(text) {
+        for m in hits.matched(11).then(|| VERSION.find_iter(text)).into_iter().flatten() {
             push(FigureKind::Version, m.as_str().to_owned(), m.start(), m.end(), 4);
         }
-        for c in ORDINAL.captures_iter(text) {
+        for c in hits.matched(12).then(|| ORDINAL.captures_iter(text)).into_iter().flatten() {
             if let Some(n) = c.get(1) {
                 let m = c.get(0).map_or(0..0, |m| m.range());
                 push(FigureKind::Number, canonical_decimal(n.as_str()), m.start, m.end, 5);
             }
         }
-        for c in PLAIN.captures_iter(text) {
+        for c in hits.matched(13).then(|| PLAIN.captures_iter(text)).into_iter().flatten() {
             if let Some(n) = c.get(1) {
                 let end = c.get(2).map_or(n.end(), |m| m.end());
                 push(FigureKind::Number, scaled(n.as_str(), c.get(2)), n.start(), end, 6);

@@ -109,8 +109,8 @@ struct WordInfo {
 /// The cache is emptied when it passes a million words.
 fn with_word<R>(word: &str, f: impl FnOnce(&WordInfo) -> R) -> R {
     thread_local! {
-        static CACHE: std::cell::RefCell<HashMap<String, WordInfo>> =
-            std::cell::RefCell::new(HashMap::new());
+        static CACHE: std::cell::RefCell<HashMap<String, WordInfo, BuildHasherDefault<IdHasher>>> =
+            std::cell::RefCell::new(HashMap::default());
     }
     CACHE.with(|c| {
         let mut c = c.borrow_mut();
