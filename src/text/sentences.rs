@@ -118,14 +118,11 @@ fn uax29_ascii(text: &[u8]) -> Vec<Range<usize>> {
             false // SB3
         } else if para(prev) {
             true // SB4
-        } else if prev == Sb::ATerm && cur == Sb::Numeric {
-            false // SB6
         } else if prev == Sb::ATerm
-            && cur == Sb::Upper
-            && i >= 2
-            && matches!(cat[i - 2], Sb::Upper | Sb::Lower)
+            && (cur == Sb::Numeric // SB6
+                || (cur == Sb::Upper && i >= 2 && matches!(cat[i - 2], Sb::Upper | Sb::Lower)))
         {
-            false // SB7
+            false // SB6, SB7
         } else {
             // Does text[..i] end with SATerm Close* Sp*?
             let k = sp_from[i];
