@@ -27,16 +27,27 @@
 //!
 //! * `number_mismatch`: every figure of the claim must be carried by a figure of the
 //!   window ([`crate::text::numbers::Figure::is_carried_by`]); one that is not makes the
-//!   claim `unsupported` whatever its word overlap.
-//! * `negation_mismatch`: the claim is aligned with the window by LCS; a negation (`not`,
-//!   `never`, `no`, `n't` …) inside the aligned region of one side without one on the other
-//!   makes the claim `unsupported`.
-//! * `changed_term`: where the alignment has a gap of exactly one content word on each
-//!   side, or any gap pairs a known opposite (minimum/maximum, before/after, all/some,
-//!   enable/disable), and the two words are neither the same stem, nor fuzzy variants,
-//!   nor on the synonym list, the claim is at best `partial`.
-//! * `no_claim`: a sentence with no content words, a greeting or offer of help, a
-//!   question, or a Markdown heading has nothing to check.
+//!   claim `unsupported` whatever its word overlap, where the window is relevant (scores
+//!   partial support or carries half the claim's words). A figure stated in a sentence
+//!   near the window (within four) widens the window to take it in.
+//! * `negation_mismatch`: claim and window are aligned by LCS; each negation cue (`not`,
+//!   `never`, `no`, `n't` …, but not bounds like "no later than") covers up to six
+//!   following words of its clause. When most content words a cue covers are aligned
+//!   with the other side and no cue there covers them, the claim is `unsupported`.
+//! * `changed_term`: where the alignment is tight (a short gap between aligned words of
+//!   one window sentence, or the two words beside a run of aligned words), a listed
+//!   opposite (minimum/maximum, before/after, all/some, enable/disable), one identifier
+//!   for another, or a one-for-one swap of content words that are neither the same stem,
+//!   nor fuzzy variants, nor listed synonyms, makes the claim at best `partial`.
+//! * Clauses: a run of three or more consecutive content words the window lacks (a
+//!   quarter of the claim) makes a `supported` score `partial`; a run of four or more it
+//!   carries (a third of the claim) makes an `unsupported` score `partial`.
+//! * `no_claim`: a sentence with no content words, a greeting, thanks or offer of help, a
+//!   bare answer word, a question, a short lead-in to a list, or a Markdown heading has
+//!   nothing to check.
+//!
+//! Every sentence of a window of two or more must carry content words of the claim that
+//! the others lack, so that a neighbour lending stop words or a stray word cannot join.
 
 use std::borrow::Cow;
 use std::cell::RefCell;

@@ -38,7 +38,7 @@ const ABBREVIATIONS: &[&str] = &[
 
 /// Pure UAX #29 sentence segments (not trimmed), covering `text` in order.
 ///
-/// Pure ASCII text — most documents — takes [`uax29_ascii`], which implements the rules
+/// Pure ASCII text — most documents — takes a hand-written path that implements the rules
 /// as they apply to ASCII; it is tested equal to `unicode-segmentation` on random ASCII
 /// text. Other text goes to `unicode-segmentation`.
 pub fn uax29(text: &str) -> Vec<Range<usize>> {
