@@ -219,7 +219,7 @@
   });
   refresh();
 
-  // Printing shows folded evidence too.
+  // Printing opens folded tables (the charts' text equivalents) too.
   var folded = [];
   window.addEventListener('beforeprint', function () {
     folded = Array.prototype.filter.call(doc.querySelectorAll('details'), function (d) { return !d.open; });

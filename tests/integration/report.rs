@@ -537,7 +537,7 @@ fn the_page_checks_find_what_they_look_for() {
 }
 
 #[test]
-fn long_evidence_is_folded_but_complete() {
+fn long_evidence_scrolls_on_screen_and_prints_whole() {
     let mut report = synthetic_report(2);
     let long = "Warranty claims stay open for 45 days. ".repeat(40);
     let e = report.answers[0].sentences[0].evidence.as_mut().expect("evidence");
@@ -545,11 +545,16 @@ fn long_evidence_is_folded_but_complete() {
     e.matched = vec![span(0, 8), span(9, 15)];
     let html = plumbline::report::html::render(&report).expect("render");
     let page = Html::parse_document(&html);
-    let folded = page.select(&sel("#a0-s0 details.ev")).next().expect("folded evidence");
-    let quote = folded.select(&sel("blockquote")).next().map(text).unwrap_or_default();
-    assert_eq!(quote, long);
-    assert_eq!(folded.select(&sel("mark")).map(text).collect::<Vec<_>>(), ["Warranty claims"]);
-    // Short evidence stays open.
-    assert!(page.select(&sel("#a0-s1 details")).next().is_none());
+    // Not folded away (a folded <details> prints folded when scripts are off): the whole
+    // text is in a scrolling box that the print stylesheet lets grow.
+    let quote = page.select(&sel("#a0-s0 blockquote.long")).next().expect("long evidence");
+    assert_eq!(text(quote), long);
+    assert_eq!(quote.select(&sel("mark")).map(text).collect::<Vec<_>>(), ["Warranty claims"]);
+    assert!(page.select(&sel("#a0-s0 details")).next().is_none());
+    let css = include_str!("../../templates/report.css");
+    let print = &css[css.find("@media print").expect("print styles")..];
+    assert!(print.contains("blockquote.long { max-height: none; overflow: visible; }"));
+    // Short evidence is a plain quote.
+    assert!(page.select(&sel("#a0-s1 blockquote.long")).next().is_none());
     assert!(page.select(&sel("#a0-s1 blockquote")).next().is_some());
 }
