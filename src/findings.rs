@@ -268,7 +268,8 @@ pub struct SentenceFindings {
     /// The best window among the cited passages, when `evidence` names another document.
     #[serde(skip_serializing_if = "Option::is_none", default)]
     pub cited_evidence: Option<Evidence>,
-    /// Figures of the sentence absent from or different in the evidence.
+    /// Figures of the sentence absent from or different in the evidence, as the sentence
+    /// writes them.
     #[serde(skip_serializing_if = "Vec::is_empty", default)]
     pub figures: Vec<String>,
     /// Changed content words.

@@ -1018,12 +1018,21 @@ fn inspect(
     memo: &FuzzyMemo,
 ) -> WindowMatch {
     let Found { first, last, score, coverage } = found;
+    // Missing figures as the claim writes them ("£8.95", "5 hours"), which a reader
+    // finds in the sentence; the canonical value when the range cannot be cut.
     let missing_figures: Vec<String> = claim
         .tokens
         .iter()
         .filter_map(|t| t.figure.as_ref())
         .filter(|f| !window.iter().any(|w| w.figure.as_ref().is_some_and(|g| f.is_carried_by(g))))
-        .map(ToString::to_string)
+        .map(|f| {
+            claim
+                .text
+                .get(f.start..f.end)
+                .map(str::trim)
+                .filter(|t| !t.is_empty())
+                .map_or_else(|| f.to_string(), str::to_owned)
+        })
         .collect();
 
     // Which claim tokens the window carries: the same stem, a listed synonym, the same
@@ -1472,7 +1481,7 @@ mod tests {
             check("Warranty claims stay open for 54 days from the date of purchase.", PASSAGE);
         assert!(a.number_mismatch);
         assert_eq!(a.verdict, Verdict::Unsupported);
-        assert_eq!(m.missing_figures, ["54 day"]);
+        assert_eq!(m.missing_figures, ["54 days"]);
         let (a, _) = check("The minimum refund is £12.50.", PASSAGE);
         assert_eq!(a.verdict, Verdict::Unsupported);
     }
