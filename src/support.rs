@@ -787,11 +787,16 @@ impl<'c> Scorer<'c> {
         passage: impl Fn(usize) -> (&'u [Unit<'u>], &'u str),
         cache: &mut TokenCache,
     ) -> Option<(usize, WindowMatch)> {
-        type Best = (usize, usize, usize, f64, f64, Vec<Token>, Vec<bool>);
-        let mut best: Option<Best> = None;
+        // Tokenise every sentence the shortlist needs once (the cache may already hold
+        // them from another claim of the answer), then work on borrowed tokens.
+        for c in &list.items {
+            let (units, text) = passage(c.tag);
+            fill_tokens(units, text, c.first, c.last, cache);
+        }
+        let mut best: Option<(usize, usize, usize, f64, f64)> = None;
         for c in list.items {
             let (units, text) = passage(c.tag);
-            let (tokens, ends) = window_tokens(units, text, c.first, c.last, cache);
+            let (tokens, _) = gather_tokens(units, text, c.first, c.last, cache);
             let mut credit = c.credit;
             // Fuzzy credit for words the window lacks (spelling variants, typos).
             for (k, w) in self.content.iter().enumerate() {
@@ -813,20 +818,21 @@ impl<'c> Scorer<'c> {
             let score = score_of(coverage, c.bigram, c.order);
             let better = match &best {
                 None => true,
-                Some((_, bf, bl, bs, _, _, _)) => {
+                Some((_, bf, bl, bs, _)) => {
                     let margin = if c.last - c.first > bl - bf { 0.01 } else { 1e-12 };
                     score > bs + margin || (score > *bs - 1e-12 && c.last - c.first < bl - bf)
                 }
             };
             if better {
-                best = Some((c.tag, c.first, c.last, score, coverage, tokens, ends));
+                best = Some((c.tag, c.first, c.last, score, coverage));
             }
         }
-        let (tag, mut first, mut last, score, coverage, mut tokens, mut ends) = best?;
+        let (tag, mut first, mut last, score, coverage) = best?;
         let (units, text) = passage(tag);
         // A figure stated once near the window (a date in the line above, a version in
         // the section's first sentence) widens the window to take it in, if every
         // missing figure is within `WIDEN` sentences.
+        let (tokens, _) = gather_tokens(units, text, first, last, cache);
         let missing: Vec<&Figure> = self
             .content
             .iter()
@@ -849,10 +855,10 @@ impl<'c> Scorer<'c> {
                     first = first.min(k);
                     last = last.max(k);
                 }
-                (tokens, ends) = window_tokens(units, text, first, last, cache);
+                fill_tokens(units, text, first, last, cache);
             }
         }
-        let window: Vec<&Token> = tokens.iter().collect();
+        let (window, ends) = gather_tokens(units, text, first, last, cache);
         let found = Found { first, last, score, coverage };
         Some((tag, inspect(self.claim, &window, &ends, text, found, &self.memo)))
     }
@@ -900,20 +906,16 @@ const WIDEN: usize = 4;
 /// that may live as long as the texts (one answer's check), shared by its claims.
 pub type TokenCache = HashMap<(usize, usize, usize), Vec<Token>>;
 
-/// The tokens of units `first..=last` of a passage (ranges in its text), and for each
-/// whether it ends a sentence. Each unit is tokenised once per cache.
-fn window_tokens(
-    units: &[Unit<'_>],
-    text: &str,
-    first: usize,
-    last: usize,
-    cache: &mut TokenCache,
-) -> (Vec<Token>, Vec<bool>) {
-    let mut tokens: Vec<Token> = Vec::new();
-    let mut ends: Vec<bool> = Vec::new();
+/// The cache key of a unit of `text`.
+fn token_key(text: &str, unit: &Unit<'_>) -> (usize, usize, usize) {
+    (text.as_ptr() as usize, unit.range.start, unit.range.end)
+}
+
+/// Tokenises units `first..=last` of a passage (ranges in its text) into the cache,
+/// each once.
+fn fill_tokens(units: &[Unit<'_>], text: &str, first: usize, last: usize, cache: &mut TokenCache) {
     for unit in units.iter().take(last + 1).skip(first) {
-        let key = (text.as_ptr() as usize, unit.range.start, unit.range.end);
-        let toks = cache.entry(key).or_insert_with(|| {
+        cache.entry(token_key(text, unit)).or_insert_with(|| {
             let r = unit.range.clone();
             let mut t = text.get(r.clone()).map(tokenize).unwrap_or_default();
             for x in &mut t {
@@ -926,7 +928,23 @@ fn window_tokens(
             }
             t
         });
-        tokens.extend(toks.iter().cloned());
+    }
+}
+
+/// The cached tokens of units `first..=last` (see [`fill_tokens`]), and for each whether
+/// it ends a sentence.
+fn gather_tokens<'c>(
+    units: &[Unit<'_>],
+    text: &str,
+    first: usize,
+    last: usize,
+    cache: &'c TokenCache,
+) -> (Vec<&'c Token>, Vec<bool>) {
+    let mut tokens: Vec<&Token> = Vec::new();
+    let mut ends: Vec<bool> = Vec::new();
+    for unit in units.iter().take(last + 1).skip(first) {
+        let Some(toks) = cache.get(&token_key(text, unit)) else { continue };
+        tokens.extend(toks.iter());
         ends.resize(tokens.len(), false);
         if let Some(e) = ends.last_mut() {
             *e = true;
