@@ -14,6 +14,7 @@
 pub mod normalize;
 pub mod numbers;
 pub mod sentences;
+pub mod lexicon;
 pub mod stem;
 pub mod stopwords;
 pub mod tokens;

@@ -221,7 +221,27 @@ fn unit_singular(word: &str) -> Option<&'static str> {
         "week" | "weeks" => "week",
         "month" | "months" => "month",
         "year" | "years" => "year",
-        "b" | "byte" | "bytes" => "byte",
+        "b" | "byte" | "bytes" | "octet" | "octets" => "byte",
+        "bit" | "bits" => "bit",
+        "kbit" | "kbits" | "kilobit" | "kilobits" => "kbit",
+        "mbit" | "mbits" | "megabit" | "megabits" => "mbit",
+        "gbit" | "gbits" | "gigabit" | "gigabits" => "gbit",
+        "pb" | "pib" | "petabyte" | "petabytes" => "pb",
+        "us" | "µs" | "microsecond" | "microseconds" => "microsecond",
+        "ns" | "nanosecond" | "nanoseconds" => "nanosecond",
+        "decade" | "decades" => "decade",
+        "century" | "centuries" => "century",
+        "row" | "rows" => "row",
+        "page" | "pages" => "page",
+        "character" | "characters" | "chars" => "character",
+        "digit" | "digits" => "digit",
+        "line" | "lines" => "line",
+        "column" | "columns" => "column",
+        "thread" | "threads" => "thread",
+        "connection" | "connections" => "connection",
+        "core" | "cores" => "core",
+        "hz" | "hertz" => "hz",
+        "khz" => "khz",
         "kb" | "kib" | "kilobyte" | "kilobytes" => "kb",
         "mb" | "mib" | "megabyte" | "megabytes" => "mb",
         "gb" | "gib" | "gigabyte" | "gigabytes" => "gb",
@@ -348,7 +368,7 @@ re!(PERCENT, format!(r"\b({NUM})(?: ?%| ?percent\b| per cent\b| ?pct\b)"));
 re!(VERSION, r"\b\d+(?:\.\d+){2,}\b");
 re!(ORDINAL, r"\b(\d+)(?:st|nd|rd|th)\b");
 re!(PLAIN, format!(r"(?:^|[^\w.,])({NUM})(?: (thousand|million|billion)\b)?"));
-re!(UNIT_AFTER, r"^ ?(°[cf]|[a-z]+)\b");
+re!(UNIT_AFTER, r"^[ -]?(°[cf]|[a-zµ]+)\b");
 re!(
     SPELLED,
     r"\b(?:zero|one|two|three|four|five|six|seven|eight|nine|ten|eleven|twelve|thirteen|fourteen|fifteen|sixteen|seventeen|eighteen|nineteen|twenty|thirty|forty|fifty|sixty|seventy|eighty|ninety|hundred|thousand|million|billion)\b(?:(?:-| | and )(?:zero|one|two|three|four|five|six|seven|eight|nine|ten|eleven|twelve|thirteen|fourteen|fifteen|sixteen|seventeen|eighteen|nineteen|twenty|thirty|forty|fifty|sixty|seventy|eighty|ninety|hundred|thousand|million|billion)\b)*"
