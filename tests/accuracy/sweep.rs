@@ -1,0 +1,261 @@
+//! Calibration: the thresholds and the scorer's parameters chosen on the tuning split,
+//! then reported on the test split.
+//!
+//! `support.fuzzy_threshold` and `support.window_sentences` change the scores, so each
+//! pair of them is a real run of `plumbline check` on the tuning answers. The thresholds
+//! only cut the scores, so for each such run every pair (`thresholds.supported`,
+//! `thresholds.partial`) is evaluated from the recorded scores and flags without running
+//! again: the run is made with `partial = 0`, so that the polarity and changed-term
+//! checks, which speak only at or above `partial`, are all recorded, and the verdict is
+//! re-derived by the rule README and `src/support.rs` state (score ≥ supported:
+//! supported; ≥ partial: partial; else unsupported; a number mismatch, or a polarity
+//! mismatch at or above partial, makes it unsupported; a changed term at or above
+//! partial makes a supported sentence partial). That the re-derivation agrees with the
+//! checker is itself checked, at the default values, against the default run; the
+//! disagreements are reported. Only `misattributed`, which depends on `supported` through
+//! the store search, is taken as recorded.
+//!
+//! The objective: the largest F1 of "needs review" on the tuning split, among the points
+//! whose false alarms (verbatim and light edits not supported) stay at or under 3 %;
+//! ties go to more targets met, then to the point nearest the defaults.
+
+use std::path::Path;
+
+use plumbline::findings::{Flag, Report, SentenceFindings, Verdict};
+use serde_json::{Value, json};
+
+use crate::generate::{CitationLabel, Label};
+use crate::score::{self, Found, Scores, Seen};
+
+pub struct Inputs<'a> {
+    pub bin: &'a Path,
+    pub store: &'a Path,
+    pub principals: &'a Path,
+    pub work: &'a Path,
+    pub tuning_answers: &'a Path,
+    pub test_answers: &'a Path,
+    pub tuning: (&'a [&'a Label], &'a [&'a CitationLabel]),
+    pub test: (&'a [&'a Label], &'a [&'a CitationLabel]),
+    /// Findings of the run with the default settings (both splits).
+    pub default_tuning: &'a Found<'a>,
+}
+
+pub const FUZZY: [f64; 3] = [0.80, 0.85, 0.90];
+pub const WINDOW: [usize; 4] = [1, 2, 3, 4];
+const DEFAULTS: (f64, f64, f64, usize) = (0.75, 0.45, 0.85, 3);
+const FALSE_ALARM_LIMIT: f64 = 3.0;
+
+#[derive(Debug, Clone)]
+struct Point {
+    supported: f64,
+    partial: f64,
+    fuzzy: f64,
+    window: usize,
+    scores: Scores,
+    met: usize,
+}
+
+impl Point {
+    fn json(&self) -> Value {
+        json!({
+            "supported": self.supported, "partial": self.partial,
+            "fuzzy_threshold": self.fuzzy, "window_sentences": self.window,
+            "review_f1": self.scores.review.f1, "precision": self.scores.review.precision,
+            "recall": self.scores.review.recall, "false_alarm_percent": self.scores.false_alarm_percent,
+            "targets_met": self.met,
+            "rows": self.scores.rows.iter().map(|r| json!({"key": r.key, "percent": r.percent})).collect::<Vec<_>>(),
+        })
+    }
+
+    fn distance(&self) -> f64 {
+        (self.supported - DEFAULTS.0).abs()
+            + (self.partial - DEFAULTS.1).abs()
+            + (self.fuzzy - DEFAULTS.2).abs()
+            + (self.window as f64 - DEFAULTS.3 as f64).abs() * 0.1
+    }
+
+    /// Whether `self` is better than `other` under the objective.
+    fn better(&self, other: &Point) -> bool {
+        let ok = |p: &Point| p.scores.false_alarm_percent <= FALSE_ALARM_LIMIT + 1e-9;
+        match (ok(self), ok(other)) {
+            (true, false) => return true,
+            (false, true) => return false,
+            (false, false) => {
+                return self.scores.false_alarm_percent < other.scores.false_alarm_percent - 1e-9;
+            }
+            _ => {}
+        }
+        let (a, b) = (self.scores.review.f1, other.scores.review.f1);
+        if (a - b).abs() > 1e-9 {
+            return a > b;
+        }
+        if self.met != other.met {
+            return self.met > other.met;
+        }
+        self.distance() < other.distance()
+    }
+}
+
+/// The verdict and flags a sentence would get at thresholds `sup` / `par`, from a run
+/// made with `partial = 0` (see the module documentation).
+pub fn rederive(f: &SentenceFindings, sup: f64, par: f64) -> Seen<'_> {
+    if f.verdict == Verdict::NoClaim {
+        return Seen::of(f);
+    }
+    let relevant = f.score >= par;
+    let number = f.flags.contains(&Flag::NumberMismatch);
+    let negation = relevant && f.flags.contains(&Flag::NegationMismatch);
+    let changed = relevant && f.flags.contains(&Flag::ChangedTerm);
+    let mut verdict = if f.score >= sup {
+        Verdict::Supported
+    } else if f.score >= par {
+        Verdict::Partial
+    } else {
+        Verdict::Unsupported
+    };
+    if number || negation {
+        verdict = Verdict::Unsupported;
+    } else if changed && verdict == Verdict::Supported {
+        verdict = Verdict::Partial;
+    }
+    let flags = f
+        .flags
+        .iter()
+        .copied()
+        .filter(|x| match x {
+            Flag::NegationMismatch => negation,
+            Flag::ChangedTerm => changed,
+            Flag::Misattributed | Flag::RestrictedMatch => verdict != Verdict::Supported,
+            _ => true,
+        })
+        .collect();
+    Seen { verdict, flags, f }
+}
+
+fn config_text(sup: f64, par: f64, fuzzy: f64, window: usize) -> String {
+    format!(
+        "# written by the accuracy benchmark's sweep\n[thresholds]\nsupported = {sup}\npartial = {par}\n\n[support]\nfuzzy_threshold = {fuzzy}\nwindow_sentences = {window}\n"
+    )
+}
+
+fn grid() -> Vec<(f64, f64)> {
+    let mut v = Vec::new();
+    for s in 10..=18 {
+        for p in 6..=14 {
+            if p <= s {
+                v.push((f64::from(s) * 0.05, f64::from(p) * 0.05));
+            }
+        }
+    }
+    v.into_iter().map(|(s, p)| ((s * 100.0).round() / 100.0, (p * 100.0).round() / 100.0)).collect()
+}
+
+/// Runs the sweep; returns its record (printed as it goes).
+pub fn run(i: &Inputs<'_>) -> Result<Value, String> {
+    let (labels, _) = i.tuning;
+    let mut points: Vec<Point> = Vec::new();
+    let mut consistency = json!(null);
+    let mut runs = Vec::new();
+    println!("\nsweep on the tuning split ({} sentences): {} × {} scorer runs, {} threshold pairs each", labels.len(), FUZZY.len(), WINDOW.len(), grid().len());
+    for &fuzzy in &FUZZY {
+        for &window in &WINDOW {
+            let cfg = i.work.join(format!("sweep-f{fuzzy:.2}-w{window}.toml"));
+            std::fs::write(&cfg, config_text(DEFAULTS.0, 0.0, fuzzy, window)).map_err(|e| format!("{}: {e}", cfg.display()))?;
+            let out = i.work.join("sweep-findings.json");
+            let (report, secs) = crate::check(i.bin, i.store, i.tuning_answers, i.principals, Some(&cfg), &out)?;
+            let reports: Vec<Report> = vec![report];
+            let found = Found::new(&reports);
+            let mut best: Option<Point> = None;
+            for (sup, par) in grid() {
+                let scores = score::score_with(
+                    "tuning",
+                    labels,
+                    &[],
+                    &|l| found.sentence(l).map(|f| rederive(f, sup, par)),
+                    &|_| None,
+                );
+                let met = scores.rows.iter().filter(|r| r.met == Some(true) && r.key != score::CITATIONS_KEY).count();
+                let p = Point { supported: sup, partial: par, fuzzy, window, scores, met };
+                if best.as_ref().is_none_or(|b| p.better(b)) {
+                    best = Some(p.clone());
+                }
+                points.push(p);
+            }
+            if (fuzzy - DEFAULTS.2).abs() < 1e-9 && window == DEFAULTS.3 {
+                let mut n = 0;
+                let mut differ = Vec::new();
+                for l in labels {
+                    let (Some(base), Some(real)) = (found.sentence(l), i.default_tuning.sentence(l)) else { continue };
+                    n += 1;
+                    let d = rederive(base, DEFAULTS.0, DEFAULTS.1);
+                    let mut a: Vec<Flag> = d.flags.iter().copied().filter(|x| *x != Flag::Misattributed).collect();
+                    let mut b: Vec<Flag> = real.flags.iter().copied().filter(|x| *x != Flag::Misattributed).collect();
+                    a.sort();
+                    b.sort();
+                    if d.verdict != real.verdict || a != b || (base.score - real.score).abs() > 1e-9 {
+                        differ.push(json!({"answer": l.answer, "position": l.position, "rederived": d.verdict.as_str(), "checker": real.verdict.as_str()}));
+                    }
+                }
+                println!(
+                    "  re-derivation check at the defaults: {} of {n} sentences differ from the default run",
+                    differ.len()
+                );
+                consistency = json!({"sentences": n, "differ": differ.len(), "examples": differ.iter().take(20).collect::<Vec<_>>()});
+            }
+            let b = best.expect("a grid point");
+            println!(
+                "  fuzzy {fuzzy:.2} window {window}: run {secs:.1}s; best supported {:.2} partial {:.2}: F1 {:.3}, false alarms {:.1}%, {} targets met",
+                b.supported, b.partial, b.scores.review.f1, b.scores.false_alarm_percent, b.met
+            );
+            runs.push(b.json());
+        }
+    }
+    let default_point = points
+        .iter()
+        .find(|p| (p.supported - DEFAULTS.0).abs() < 1e-9 && (p.partial - DEFAULTS.1).abs() < 1e-9 && (p.fuzzy - DEFAULTS.2).abs() < 1e-9 && p.window == DEFAULTS.3)
+        .cloned();
+    let mut chosen = points[0].clone();
+    for p in &points {
+        if p.better(&chosen) {
+            chosen = p.clone();
+        }
+    }
+    println!(
+        "  chosen: supported {:.2}, partial {:.2}, fuzzy_threshold {:.2}, window_sentences {} (tuning F1 {:.3}, false alarms {:.1}%, {} targets met){}",
+        chosen.supported,
+        chosen.partial,
+        chosen.fuzzy,
+        chosen.window,
+        chosen.scores.review.f1,
+        chosen.scores.false_alarm_percent,
+        chosen.met,
+        default_point.as_ref().map_or(String::new(), |d| format!(
+            "; defaults on tuning: F1 {:.3}, false alarms {:.1}%, {} targets met",
+            d.scores.review.f1, d.scores.false_alarm_percent, d.met
+        ))
+    );
+
+    // The chosen values on the test split, by a real run.
+    let cfg = i.work.join("recommended.toml");
+    std::fs::write(&cfg, config_text(chosen.supported, chosen.partial, chosen.fuzzy, chosen.window))
+        .map_err(|e| format!("{}: {e}", cfg.display()))?;
+    let out = i.work.join("findings-test-recommended.json");
+    let (report, _) = crate::check(i.bin, i.store, i.test_answers, i.principals, Some(&cfg), &out)?;
+    let reports = vec![report];
+    let found = Found::new(&reports);
+    let test = score::score("test split with the sweep's values", i.test.0, i.test.1, &found);
+    print!("\n{}", score::table(&test));
+
+    Ok(json!({
+        "objective": format!("largest needs-review F1 on the tuning split with false alarms (verbatim + light edits not supported) at most {FALSE_ALARM_LIMIT}%; ties: more targets met, then nearest the defaults"),
+        "fuzzy_threshold": FUZZY,
+        "window_sentences": WINDOW,
+        "threshold_pairs": grid().len(),
+        "consistency_at_defaults": consistency,
+        "best_per_run": runs,
+        "default_point": default_point.map(|p| p.json()),
+        "chosen": chosen.json(),
+        "test_with_chosen": serde_json::to_value(&test).unwrap_or(Value::Null),
+        "points": points.iter().map(Point::json).collect::<Vec<_>>(),
+    }))
+}
