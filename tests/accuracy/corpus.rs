@@ -346,7 +346,12 @@ static RST_EMPHASIS: LazyLock<Regex> = LazyLock::new(|| {
 /// no-break spaces made plain. This is how an answer restates a sentence.
 pub fn render(s: &str) -> String {
     let s = RST_ROLE.replace_all(s, |c: &regex::Captures<'_>| {
+        let whole = c.get(0).map_or("", |m| m.as_str());
         let inner = c[1].trim_start_matches(['~', '!']);
+        if whole.starts_with(":rfc:") || whole.starts_with(":pep:") {
+            let label = if whole.starts_with(":rfc:") { "RFC" } else { "PEP" };
+            return format!("{label} {}", inner.split('#').next().unwrap_or(inner));
+        }
         match RST_TARGET.captures(inner) {
             Some(t) if !t[1].is_empty() => t[1].to_owned(),
             _ => inner.trim_matches(['<', '>']).to_owned(),
@@ -379,6 +384,12 @@ pub fn claim_like(raw: &str, collection: Collection) -> bool {
     }
     let first = text.chars().next().unwrap_or(' ');
     if !first.is_ascii_uppercase() || !text.ends_with('.') || text.ends_with("..") {
+        return false;
+    }
+    // Two sentences the store's splitter kept together ("… spam.lib. Spam.dll …").
+    static INNER_END: LazyLock<Regex> =
+        LazyLock::new(|| Regex::new(r"[.!?] [A-Z]").unwrap_or_else(|e| panic!("inner end: {e}")));
+    if INNER_END.is_match(&text[..text.len() - 1]) {
         return false;
     }
     let lower = text.to_lowercase();

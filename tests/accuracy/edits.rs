@@ -103,20 +103,20 @@ pub fn capitalise(s: &str) -> String {
     }
 }
 
-/// Words that may lose their capital when they stop being the first word.
-const COMMON_FIRST: &[&str] = &[
-    "the", "a", "an", "this", "these", "those", "that", "it", "its", "you", "your", "they",
-    "their", "there", "each", "every", "any", "some", "such", "one", "we", "in", "on", "for",
-    "to", "with", "by", "all", "most", "many", "other", "both", "when", "if", "only", "also",
-    "no", "new", "data", "values", "setting", "using", "calling", "specifying", "changing",
+/// Capitalised words that are names and keep their capital anywhere.
+const NAMES: &[&str] = &[
+    "Python", "Unix", "Windows", "Linux", "Mac", "Perl", "Tcl", "Java", "Postgres", "English",
+    "Unicode", "Boolean", "I",
 ];
 
-/// `s` with its first letter lower-cased where the first word is a common word.
+/// `s` with its first letter lower-cased where the first word is a plain capitalised
+/// word (not a name, an acronym or an identifier).
 fn decapitalise(s: &str) -> String {
     let first = s.split([' ', ',']).next().unwrap_or("");
-    if COMMON_FIRST.contains(&first.to_lowercase().as_str())
+    let plain = first.chars().next().is_some_and(|c| c.is_ascii_uppercase())
         && first.chars().skip(1).all(|c| c.is_ascii_lowercase())
-    {
+        && first.len() > 1;
+    if plain && !NAMES.contains(&first) {
         let mut c = s.chars();
         match c.next() {
             Some(f) => f.to_lowercase().collect::<String>() + c.as_str(),
@@ -245,7 +245,6 @@ const PHRASES: &[(&str, &str)] = &[
     ("with respect to", "regarding"),
     ("it is possible to", "one can"),
     ("is responsible for", "handles"),
-    ("a lot of", "many"),
 ];
 
 /// Sentence openers whose removal leaves the claim as it was.
@@ -257,16 +256,18 @@ const OPENERS: &[&str] = &[
 ];
 
 /// Intensifiers and fillers whose removal leaves the claim as it was.
-const FILLERS: &[&str] =
-    &["very", "really", "simply", "also", "actually", "indeed", "certainly", "quite", "completely"];
+/// ("very" and "quite" are not here: "very short rows" are not all short rows.)
+const FILLERS: &[&str] = &["really", "simply", "also", "actually", "indeed", "certainly"];
 
-fn synonym(s: &str, rng: &mut Rng) -> Option<Edit> {
+fn synonym(s: &str, avoid: &[String], rng: &mut Rng) -> Option<Edit> {
     let lower = s.to_lowercase();
     let mut options: Vec<(usize, usize, String)> = Vec::new();
     for &(a, b) in PHRASES {
         let pat = word_pattern(a);
         for m in pat.find_iter(&lower) {
-            options.push((m.start(), m.end(), b.to_owned()));
+            if !avoid.iter().any(|w| a.split(' ').any(|x| x == w)) {
+                options.push((m.start(), m.end(), b.to_owned()));
+            }
         }
     }
     for (a, b) in words(s) {
@@ -274,6 +275,9 @@ fn synonym(s: &str, rng: &mut Rng) -> Option<Edit> {
             continue;
         }
         let w = s[a..b].to_lowercase();
+        if avoid.contains(&w) {
+            continue;
+        }
         let prev = s[..a].trim_end().rsplit(' ').next().unwrap_or("").to_lowercase();
         for &(x, y, both) in SYNONYMS {
             if w == x && !(x == "whole" && prev == "the") {
@@ -329,9 +333,22 @@ const SUBORDINATORS: &[&str] = &[
     "Before", "Where",
 ];
 
+/// Words that open a clause of their own: a clause moved past one of them could attach
+/// to it instead of the main clause, and the meaning would change.
+const CLAUSE_WORDS: &[&str] = &[
+    "that", "which", "who", "whom", "whose", "where", "when", "while", "if", "unless",
+    "because", "since", "so", "whether", "although", "though", "until", "after", "before",
+    "once", "as", "than", "and", "or", "but",
+];
+
+fn has_clause_word(s: &str) -> bool {
+    s.split(' ').any(|w| CLAUSE_WORDS.contains(&w.trim_matches(|c: char| !c.is_alphanumeric()).to_lowercase().as_str()))
+}
+
 fn reorder(s: &str, _rng: &mut Rng) -> Option<Edit> {
     let body = s.strip_suffix('.')?;
-    if body.contains(';') || body.contains(':') {
+    // "only" scopes over the clause it stands in; moving a clause past it moves the scope.
+    if body.contains(';') || body.contains(':') || body.contains('(') || body.contains(" only ") {
         return None;
     }
     let first = body.split(' ').next()?;
@@ -340,8 +357,8 @@ fn reorder(s: &str, _rng: &mut Rng) -> Option<Edit> {
         let clause = sub[first.len()..].trim();
         if main.split(' ').count() < 3
             || clause.split(' ').count() < 2
-            || main.starts_with("then ")
-            || main.starts_with("but ")
+            || has_clause_word(main)
+            || has_clause_word(clause)
         {
             return None;
         }
@@ -359,6 +376,8 @@ fn reorder(s: &str, _rng: &mut Rng) -> Option<Edit> {
         if ["even", "as", "only", "and", "or", "whether", "not"].contains(&last)
             || main.split(' ').count() < 3
             || cond.split(' ').count() < 3
+            || has_clause_word(main)
+            || has_clause_word(cond)
         {
             return None;
         }
@@ -430,6 +449,13 @@ const VERBS: &[(&str, &str)] = &[
     ("has", "have"),
 ];
 
+/// Third-person verbs that are as often plural nouns ("writes", "reads", "means"): left
+/// alone by the tense change, which cannot tell the two apart.
+const HOMOGRAPHS: &[&str] = &[
+    "writes", "reads", "reports", "stores", "means", "needs", "matches", "displays", "controls",
+    "uses", "changes", "releases", "returns", "takes", "makes", "waits", "sends", "causes",
+];
+
 fn inflect(s: &str, _rng: &mut Rng) -> Option<Edit> {
     let ws = words(s);
     for (k, &(a, b)) in ws.iter().enumerate() {
@@ -443,6 +469,10 @@ fn inflect(s: &str, _rng: &mut Rng) -> Option<Edit> {
         let prev = &s[ws[k - 1].0..ws[k - 1].1];
         if ["to", "and", "or", "the", "a", "an", "which", "not"].contains(&prev.to_lowercase().as_str()) {
             continue;
+        }
+        let next = ws.get(k + 1).map(|&(x, y)| s[x..y].to_lowercase()).unwrap_or_default();
+        if HOMOGRAPHS.contains(&w) || next == "of" || next == "and" || next == "or" {
+            continue; // "to issue writes of …": a noun
         }
         if let Some(&(_, base)) = VERBS.iter().find(|(v, _)| *v == w) {
             let text = replace_at(s, a, b, &format!("will {base}"));
@@ -471,16 +501,20 @@ const CONTRACTIONS: &[(&str, &str)] = &[
     ("There is", "There's"),
 ];
 
-fn contract(s: &str, rng: &mut Rng) -> Option<Edit> {
+fn contract(s: &str, avoid: &[String], rng: &mut Rng) -> Option<Edit> {
     let mut options = Vec::new();
     for &(long, short) in CONTRACTIONS {
         let pat = word_pattern(long);
         for m in pat.find_iter(s) {
-            options.push((m.start(), m.end(), short, long));
+            if !avoid.iter().any(|w| long.split(' ').any(|x| x == w)) {
+                options.push((m.start(), m.end(), short, long));
+            }
         }
         let pat = word_pattern(short);
         for m in pat.find_iter(s) {
-            options.push((m.start(), m.end(), long, short));
+            if !avoid.iter().any(|w| w == short) {
+                options.push((m.start(), m.end(), long, short));
+            }
         }
     }
     if options.is_empty() {
@@ -494,15 +528,22 @@ fn contract(s: &str, rng: &mut Rng) -> Option<Edit> {
 /// The light edits, by name.
 pub const LIGHT_KINDS: &[&str] = &["synonym", "drop", "reorder", "inflect", "contraction"];
 
-fn light_by_kind(kind: &str, s: &str, rng: &mut Rng) -> Option<Edit> {
+fn light_by_kind(kind: &str, s: &str, avoid: &[String], rng: &mut Rng) -> Option<Edit> {
     match kind {
-        "synonym" => synonym(s, rng),
+        "synonym" => synonym(s, avoid, rng),
         "drop" => drop_modifier(s, rng),
         "reorder" => reorder(s, rng),
         "inflect" => inflect(s, rng),
-        "contraction" => contract(s, rng),
+        "contraction" => contract(s, avoid, rng),
         _ => None,
     }
+}
+
+/// The words an edit brought in (lower-case), so that a later edit leaves them alone.
+fn introduced(before: &str, after: &str) -> Vec<String> {
+    let lw = |t: &str| t.split(|c: char| !c.is_alphanumeric() && c != '\'').filter(|w| !w.is_empty()).map(str::to_lowercase).collect::<Vec<_>>();
+    let old = lw(before);
+    lw(after).into_iter().filter(|w| !old.contains(w)).collect()
 }
 
 /// One light edit of a kind that applies, chosen at random; refused unless it keeps the
@@ -511,7 +552,7 @@ pub fn light_edit(s: &str, rng: &mut Rng) -> Option<Edit> {
     let mut kinds = LIGHT_KINDS.to_vec();
     rng.shuffle(&mut kinds);
     for k in kinds {
-        if let Some(e) = light_by_kind(k, s, rng) {
+        if let Some(e) = light_by_kind(k, s, &[], rng) {
             if keeps_meaning(s, &e.text) {
                 return Some(e);
             }
@@ -529,9 +570,11 @@ pub fn heavy_paraphrase(s: &str, rng: &mut Rng) -> Option<Edit> {
     rng.shuffle(&mut plan);
     // Reordering first keeps the other edits' positions meaningful.
     plan.sort_by_key(|k| *k != "reorder");
+    let mut avoid: Vec<String> = Vec::new();
     for k in plan {
-        if let Some(e) = light_by_kind(k, &text, rng) {
+        if let Some(e) = light_by_kind(k, &text, &avoid, rng) {
             if keeps_meaning(&text, &e.text) {
+                avoid.extend(introduced(&text, &e.text));
                 text = e.text.clone();
                 done.push(e);
             }
@@ -557,6 +600,7 @@ const UNIT_GROUPS: &[&[&str]] = &[
     &["bytes", "kilobytes", "megabytes", "gigabytes", "terabytes", "bits"],
     &["byte", "kilobyte", "megabyte", "gigabyte", "terabyte", "bit"],
     &["kB", "MB", "GB", "TB"],
+    &["KiB", "MiB", "GiB", "TiB"],
     &["ms", "s", "min", "h"],
 ];
 
@@ -589,7 +633,7 @@ fn numbers(s: &str) -> Vec<NumberAt> {
         } else {
             rest.chars().take_while(|c| c.is_ascii_alphabetic()).collect()
         };
-        if !suffix.is_empty() && suffix != "%" && unit_group(&suffix).is_none() {
+        if !suffix.is_empty() && suffix != "%" && !GLUED_UNITS.contains(&suffix.as_str()) {
             continue;
         }
         let after = rest[suffix.len()..].chars().next();
@@ -604,6 +648,24 @@ fn numbers(s: &str) -> Vec<NumberAt> {
         }
     }
     out
+}
+
+/// Units written glued to their number (`32MB`, `200ms`).
+const GLUED_UNITS: &[&str] = &["kB", "KB", "MB", "GB", "TB", "KiB", "MiB", "GiB", "TiB", "ms"];
+
+/// Words before a number that make it a name (a standard, a section, a release) rather
+/// than a quantity.
+const LABELS: &[&str] = &[
+    "ISO", "RFC", "PEP", "Section", "section", "Chapter", "chapter", "Table", "Figure", "Example",
+    "Appendix", "version", "Version", "versions", "Python", "PostgreSQL", "release", "Release",
+    "Step", "step", "level", "Level", "ECMA", "IEEE", "UTF", "Unicode", "POSIX", "C", "C99",
+    "SQL", "X", "Windows", "Tk", "Tcl", "OpenSSL", "Perl", "Protocol", "protocol", "PL",
+];
+
+/// Whether the number at `start` follows a label word.
+fn after_label(s: &str, start: usize) -> bool {
+    let prev = s[..start].trim_end().rsplit([' ', '(']).next().unwrap_or("");
+    LABELS.contains(&prev)
 }
 
 fn group_thousands(n: u64) -> String {
@@ -740,7 +802,11 @@ fn unit_after(s: &str, end: usize) -> Option<(usize, usize)> {
 /// A unit changed for another of the same dimension, the number kept (`5 minutes` →
 /// `5 hours`).
 pub fn change_unit(s: &str, rng: &mut Rng) -> Option<Edit> {
-    let options: Vec<(usize, usize)> = numbers(s).iter().filter_map(|n| unit_after(s, n.end)).collect();
+    let options: Vec<(usize, usize)> = numbers(s)
+        .iter()
+        .filter(|n| !after_label(s, n.start) && !s[n.start..n.end].contains('.'))
+        .filter_map(|n| unit_after(s, n.end))
+        .collect();
     if options.is_empty() {
         return None;
     }
@@ -819,7 +885,11 @@ pub fn flip_polarity(s: &str, _rng: &mut Rng) -> Option<Edit> {
         if k > 0 {
             if let Some(&(_, base)) = VERBS.iter().find(|(v, _)| *v == lw) {
                 let prev = s[ws[k - 1].0..ws[k - 1].1].to_lowercase();
-                if ["to", "and", "or", "the", "a", "an", "of"].contains(&prev.as_str()) || lw == "has" {
+                let next = ws.get(k + 1).map(|&(x, y)| s[x..y].to_lowercase()).unwrap_or_default();
+                if ["to", "and", "or", "the", "a", "an", "of", "its", "their", "issue", "many", "all"].contains(&prev.as_str())
+                    || ["of", "and", "or"].contains(&next.as_str())
+                    || lw == "has"
+                {
                     continue;
                 }
                 let with = format!("does not {base}");
@@ -923,7 +993,6 @@ const QUANTIFIERS: &[(&str, &str)] = &[
     ("every", "some"),
     ("none of", "all of"),
     ("both", "only one of"),
-    ("any", "only some"),
     ("each", "only one"),
 ];
 
@@ -988,7 +1057,11 @@ fn swap_from(s: &str, rng: &mut Rng, list: &[(&str, &str)], both: bool, kind: &s
     if options.is_empty() {
         return None;
     }
-    let (a, b, with) = options[rng.below(options.len())].clone();
+    let (a, b, mut with) = options[rng.below(options.len())].clone();
+    let next = s[b..].trim_start();
+    if s[a..b].eq_ignore_ascii_case("all") && (next.starts_with("the ") || next.starts_with("these ") || next.starts_with("its ") || next.starts_with("their ")) {
+        with.push_str(" of"); // "all the rows" → "some of the rows"
+    }
     let text = format!("{}{}{}", &s[..a], with, &s[b..]);
     let text = text.replace("a earlier", "an earlier").replace("an later", "a later");
     Some(Edit { detail: format!("{} → {}", &s[a..b], with), text, kind: kind.into() })
@@ -1059,7 +1132,8 @@ pub fn swap_identifier(s: &str, page: &[(&'static str, Vec<String>)], rng: &mut 
         let Some((_, pool)) = page.iter().find(|(k, _)| k == kind) else { continue };
         for m in r.find_iter(s) {
             let w = m.as_str();
-            if !ident_ok(w) {
+            let glued = |c: Option<char>| c.is_some_and(|c| c == '.' || c == '_' || c.is_alphanumeric());
+            if !ident_ok(w) || glued(s[..m.start()].chars().next_back()) || (glued(s[m.end()..].chars().next()) && s[m.end()..].chars().nth(1).is_some_and(|c| c.is_alphanumeric())) {
                 continue;
             }
             let others: Vec<&String> = pool
@@ -1109,17 +1183,37 @@ const NOT_SUBJECT: &[&str] = &[
     "usually", "typically", "generally", "normally",
 ];
 
+/// Whether a word names a thing on its own: an identifier, an acronym or a name.
+fn is_name(w: &str) -> bool {
+    let inner_upper = w.chars().skip(1).any(|c| c.is_ascii_uppercase());
+    let code = w.contains('_') || w.contains('.') || w.chars().any(|c| c.is_ascii_digit());
+    (inner_upper || code) && w.chars().next().is_some_and(char::is_alphanumeric)
+}
+
 fn subject_and_predicate(s: &str) -> Option<(String, String)> {
     let ws: Vec<&str> = s.split(' ').collect();
-    let first = ws.first()?.to_lowercase();
-    if NOT_SUBJECT.contains(&first.as_str()) {
+    let first = *ws.first()?;
+    if NOT_SUBJECT.contains(&first.to_lowercase().as_str()) {
+        return None;
+    }
+    // A subject opens with an article or a name, never with a verb ("Reads and …").
+    if !["The", "A", "An", "Its", "Their", "Your"].contains(&first) && !is_name(first) {
         return None;
     }
     let k = ws.iter().position(|w| PIVOTS.contains(w))?;
-    if !(2..=8).contains(&k) || ws[..k].iter().any(|w| w.contains(',') || w.contains('(')) {
+    if !(2..=6).contains(&k) || ws[..k].iter().any(|w| w.contains(',') || w.contains('(')) {
         return None;
     }
-    Some((ws[..k].join(" "), ws[k..].join(" ")))
+    let subject = &ws[..k];
+    let last = subject[k - 1].to_lowercase();
+    if subject.iter().any(|w| {
+        let w = w.to_lowercase();
+        CLAUSE_WORDS.contains(&w.as_str()) || VERBS.iter().any(|(v, _)| *v == w) || w == "indicates"
+    }) || ["of", "to", "the", "a", "an", "for", "in", "on", "with", "by"].contains(&last.as_str())
+    {
+        return None;
+    }
+    Some((subject.join(" "), ws[k..].join(" ")))
 }
 
 /// The subject of `a` with the predicate of `b`: a claim made of the passage's own words
@@ -1312,7 +1406,7 @@ pub fn self_test() -> Vec<String> {
         &mut bad,
         recombine(
             "The planner is able to use the index for ordered scans of the table.",
-            "Parallel workers must have at least a share of the memory budget.",
+            "The parallel workers must have at least a share of the memory budget.",
             words_of,
         ),
         "recombine",

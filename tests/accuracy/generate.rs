@@ -96,7 +96,7 @@ impl Class {
             Class::LightEdit => 12,
             Class::HeavyParaphrase => 10,
             Class::FigureChanged => 11,
-            Class::UnitChanged => 8,
+            Class::UnitChanged => 9,
             Class::PolarityFlipped => 9,
             Class::OtherDocument => 10,
             Class::Fabricated => 9,
@@ -422,11 +422,21 @@ impl<'a> Generator<'a> {
         let mut cites: Vec<Cite> = Vec::new();
         for k in 0..ncit {
             let defect = if k == 0 { defect } else { None };
+            // A class is drawn by weight and tried until a sentence takes it, so that
+            // classes whose edits apply rarely are not under-represented.
             let mut made = None;
-            for _ in 0..50 {
-                if let Some(c) = self.citation(split, &mut rng, groups.as_deref(), defect, &cites) {
-                    made = Some(c);
-                    break;
+            'draw: for _ in 0..4 {
+                let class = if matches!(defect, Some(Defect::Dead | Defect::BadLocator)) {
+                    Class::BrokenCitation
+                } else {
+                    let weights: Vec<u32> = Class::ALL.iter().map(|c| c.weight()).collect();
+                    Class::ALL[rng.weighted(&weights)]
+                };
+                for _ in 0..40 {
+                    if let Some(c) = self.citation(split, class, &mut rng, groups.as_deref(), defect, &cites) {
+                        made = Some(c);
+                        break 'draw;
+                    }
                 }
             }
             match made {
@@ -455,10 +465,10 @@ impl<'a> Generator<'a> {
             source: None,
             expect_doc: None,
         };
-        if rng.chance(0.25) {
+        if rng.chance(0.15) {
             sentences.insert(0, (chatter(&mut rng), None));
         }
-        if rng.chance(0.2) {
+        if rng.chance(0.12) {
             sentences.push((chatter(&mut rng), None));
         }
 
@@ -563,6 +573,7 @@ impl<'a> Generator<'a> {
     fn citation(
         &self,
         split: Split,
+        class: Class,
         rng: &mut Rng,
         groups: Option<&[String]>,
         defect: Option<Defect>,
@@ -570,12 +581,6 @@ impl<'a> Generator<'a> {
     ) -> Option<Cite> {
         let c = self.corpus;
         let broken = matches!(defect, Some(Defect::Dead | Defect::BadLocator));
-        let class = if broken {
-            Class::BrokenCitation
-        } else {
-            let weights: Vec<u32> = Class::ALL.iter().map(|c| c.weight()).collect();
-            Class::ALL[rng.weighted(&weights)]
-        };
         let usable = |d: usize| {
             let ent = entitlement(groups, &c.docs[d].access);
             // Both sides unknown has no status of its own in SPEC.md; leave it out.
@@ -607,6 +612,7 @@ impl<'a> Generator<'a> {
             } else {
                 make_edit(class, &s, &self.admissible.idents[&d], rng)?
             };
+            let edit = self.note_coincidence(class, edit, &passage);
             (passage, Draft { class, edit, source: Some((d, i)), expect_doc: None })
         };
         let d = passage.doc;
@@ -764,6 +770,30 @@ impl<'a> Generator<'a> {
         Some(Passage { doc: d, sentences: lo..hi, locator: Locator::Range(file.start, file.end), visible: back })
     }
 
+    /// For a changed figure: notes in the detail when the new value also stands in the
+    /// cited passage (a presence check cannot tell such a change; the item is kept, as an
+    /// assistant that confuses two figures of a passage makes exactly this error).
+    fn note_coincidence(&self, class: Class, mut edit: Edit, p: &Passage) -> Edit {
+        if class != Class::FigureChanged {
+            return edit;
+        }
+        let new = edit.detail.rsplit("→ ").next().unwrap_or("").replace(',', "");
+        let text = &self.corpus.store.documents[p.doc].visible_text()[p.visible.clone()];
+        let region = if matches!(p.locator, Locator::Whole) {
+            &self.corpus.store.documents[p.doc].visible_text()[self.corpus.span(p.doc, p.sentences.clone())]
+        } else {
+            text
+        };
+        let present = region
+            .split(|ch: char| !(ch.is_ascii_alphanumeric() || ch == '.' || ch == ','))
+            .map(|w| w.trim_end_matches(['.', ',']).replace(',', ""))
+            .any(|w| w.eq_ignore_ascii_case(&new));
+        if present {
+            edit.detail.push_str(" (the new value also occurs in the cited passage)");
+        }
+        edit
+    }
+
     /// A recombined sentence: this sentence's subject with the predicate of another
     /// sentence of the passage.
     fn fabricate(&self, p: &Passage, i: usize, s: &str, rng: &mut Rng) -> Option<Edit> {
@@ -820,6 +850,7 @@ impl<'a> Generator<'a> {
             Class::JoinedClause => edits::join_clause(&s, &self.unrelated_clause(split, p.doc, rng)?)?,
             _ => make_edit(class, &s, &self.admissible.idents[&p.doc], rng)?,
         };
+        let edit = self.note_coincidence(class, edit, p);
         Some(Draft { class, edit, source: Some((p.doc, j)), expect_doc: None })
     }
 
