@@ -157,7 +157,10 @@ pub fn prepare(root: &Path, seed: u64) -> Result<Corpus, String> {
     let store = Store::load(root, &limits).map_err(|e| e.to_string())?;
     let load_seconds = t.elapsed().as_secs_f64();
     if !store.problems.is_empty() {
-        return Err(format!("manifest problems: {:?}", store.problems.iter().take(3).collect::<Vec<_>>()));
+        return Err(format!(
+            "manifest problems: {:?}",
+            store.problems.iter().take(3).collect::<Vec<_>>()
+        ));
     }
     let texts: Vec<&str> = store.documents.iter().map(|d| d.visible_text()).collect();
     let t = std::time::Instant::now();
@@ -192,8 +195,11 @@ pub fn prepare(root: &Path, seed: u64) -> Result<Corpus, String> {
         } else {
             Vec::new()
         };
-        let split =
-            if mix(seed ^ 0x5917, hash_str(&doc.id)) % 2 == 0 { Split::Tuning } else { Split::Test };
+        let split = if mix(seed ^ 0x5917, hash_str(&doc.id)) % 2 == 0 {
+            Split::Tuning
+        } else {
+            Split::Test
+        };
         docs.push(DocInfo {
             id: doc.id.clone(),
             collection,
@@ -335,8 +341,9 @@ static RST_TARGET: LazyLock<Regex> =
     LazyLock::new(|| Regex::new(r"^(.*?)\s*<[^>]*>$").unwrap_or_else(|e| panic!("target: {e}")));
 static RST_LITERAL: LazyLock<Regex> =
     LazyLock::new(|| Regex::new(r"``([^`]+)``").unwrap_or_else(|e| panic!("literal: {e}")));
-static RST_LINK: LazyLock<Regex> =
-    LazyLock::new(|| Regex::new(r"`([^`<]+?)(?:\s*<[^>]*>)?`__?").unwrap_or_else(|e| panic!("link: {e}")));
+static RST_LINK: LazyLock<Regex> = LazyLock::new(|| {
+    Regex::new(r"`([^`<]+?)(?:\s*<[^>]*>)?`__?").unwrap_or_else(|e| panic!("link: {e}"))
+});
 static RST_EMPHASIS: LazyLock<Regex> = LazyLock::new(|| {
     Regex::new(r"(^|[\s(])\*{1,2}([^*\s][^*]*?)\*{1,2}").unwrap_or_else(|e| panic!("emphasis: {e}"))
 });

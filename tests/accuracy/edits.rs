@@ -135,8 +135,17 @@ pub fn negations(s: &str) -> usize {
         .filter(|w| {
             matches!(
                 w.as_str(),
-                "not" | "no" | "never" | "none" | "nothing" | "nobody" | "neither" | "nor"
-                    | "without" | "cannot" | "nowhere"
+                "not"
+                    | "no"
+                    | "never"
+                    | "none"
+                    | "nothing"
+                    | "nobody"
+                    | "neither"
+                    | "nor"
+                    | "without"
+                    | "cannot"
+                    | "nowhere"
             ) || w.ends_with("n't")
         })
         .count()
@@ -249,10 +258,26 @@ const PHRASES: &[(&str, &str)] = &[
 
 /// Sentence openers whose removal leaves the claim as it was.
 const OPENERS: &[&str] = &[
-    "However, ", "Therefore, ", "Thus, ", "Also, ", "In addition, ", "Furthermore, ",
-    "Moreover, ", "Note that ", "Of course, ", "In fact, ", "Similarly, ", "Likewise, ",
-    "Consequently, ", "Hence, ", "Again, ", "Finally, ", "Additionally, ", "Note, however, that ",
-    "Of course ", "Accordingly, ",
+    "However, ",
+    "Therefore, ",
+    "Thus, ",
+    "Also, ",
+    "In addition, ",
+    "Furthermore, ",
+    "Moreover, ",
+    "Note that ",
+    "Of course, ",
+    "In fact, ",
+    "Similarly, ",
+    "Likewise, ",
+    "Consequently, ",
+    "Hence, ",
+    "Again, ",
+    "Finally, ",
+    "Additionally, ",
+    "Note, however, that ",
+    "Of course ",
+    "Accordingly, ",
 ];
 
 /// Intensifiers and fillers whose removal leaves the claim as it was.
@@ -279,6 +304,10 @@ fn synonym(s: &str, avoid: &[String], rng: &mut Rng) -> Option<Edit> {
             continue;
         }
         let prev = s[..a].trim_end().rsplit(' ').next().unwrap_or("").to_lowercase();
+        let next = s[b..].trim_start().split(' ').next().unwrap_or("").to_lowercase();
+        if w == "because" && next == "of" {
+            continue; // "because of" is a preposition; "since of" is not English
+        }
         for &(x, y, both) in SYNONYMS {
             if w == x && !(x == "whole" && prev == "the") {
                 options.push((a, b, y.to_owned()));
@@ -313,6 +342,15 @@ fn drop_modifier(s: &str, rng: &mut Rng) -> Option<Edit> {
     for c in PAREN.captures_iter(s) {
         let inner = &c[1];
         let m = c.get(0).expect("whole match");
+        // "a tuple of (data, address)": the parenthesis is the object, not an aside.
+        let prev = s[..m.start()].rsplit(' ').next().unwrap_or("").to_lowercase();
+        const GOVERNING: &[&str] = &[
+            "of", "a", "an", "the", "to", "for", "with", "by", "in", "on", "from", "as", "is",
+            "are", "be", "and", "or", "returns", "return", "contains", "named", "called",
+        ];
+        if GOVERNING.contains(&prev.as_str()) {
+            continue;
+        }
         if !inner.chars().any(|x| x.is_ascii_digit())
             && negations(inner) == 0
             && inner.split(' ').count() <= 8
@@ -336,13 +374,16 @@ const SUBORDINATORS: &[&str] = &[
 /// Words that open a clause of their own: a clause moved past one of them could attach
 /// to it instead of the main clause, and the meaning would change.
 const CLAUSE_WORDS: &[&str] = &[
-    "that", "which", "who", "whom", "whose", "where", "when", "while", "if", "unless",
-    "because", "since", "so", "whether", "although", "though", "until", "after", "before",
-    "once", "as", "than", "and", "or", "but",
+    "that", "which", "who", "whom", "whose", "where", "when", "while", "if", "unless", "because",
+    "since", "so", "whether", "although", "though", "until", "after", "before", "once", "as",
+    "than", "and", "or", "but",
 ];
 
 fn has_clause_word(s: &str) -> bool {
-    s.split(' ').any(|w| CLAUSE_WORDS.contains(&w.trim_matches(|c: char| !c.is_alphanumeric()).to_lowercase().as_str()))
+    s.split(' ').any(|w| {
+        CLAUSE_WORDS
+            .contains(&w.trim_matches(|c: char| !c.is_alphanumeric()).to_lowercase().as_str())
+    })
 }
 
 fn reorder(s: &str, _rng: &mut Rng) -> Option<Edit> {
@@ -354,6 +395,7 @@ fn reorder(s: &str, _rng: &mut Rng) -> Option<Edit> {
     let first = body.split(' ').next()?;
     if SUBORDINATORS.contains(&first) && body.matches(", ").count() == 1 {
         let (sub, main) = body.split_once(", ")?;
+        let main = main.strip_prefix("then ").unwrap_or(main);
         let clause = sub[first.len()..].trim();
         if main.split(' ').count() < 3
             || clause.split(' ').count() < 2
@@ -467,7 +509,9 @@ fn inflect(s: &str, _rng: &mut Rng) -> Option<Edit> {
             continue; // "has" is often an auxiliary ("has been")
         }
         let prev = &s[ws[k - 1].0..ws[k - 1].1];
-        if ["to", "and", "or", "the", "a", "an", "which", "not"].contains(&prev.to_lowercase().as_str()) {
+        if ["to", "and", "or", "the", "a", "an", "which", "not"]
+            .contains(&prev.to_lowercase().as_str())
+        {
             continue;
         }
         let next = ws.get(k + 1).map(|&(x, y)| s[x..y].to_lowercase()).unwrap_or_default();
@@ -476,7 +520,11 @@ fn inflect(s: &str, _rng: &mut Rng) -> Option<Edit> {
         }
         if let Some(&(_, base)) = VERBS.iter().find(|(v, _)| *v == w) {
             let text = replace_at(s, a, b, &format!("will {base}"));
-            return Some(Edit { detail: format!("{w} → will {base}"), text, kind: "inflect".into() });
+            return Some(Edit {
+                detail: format!("{w} → will {base}"),
+                text,
+                kind: "inflect".into(),
+            });
         }
     }
     None
@@ -541,7 +589,12 @@ fn light_by_kind(kind: &str, s: &str, avoid: &[String], rng: &mut Rng) -> Option
 
 /// The words an edit brought in (lower-case), so that a later edit leaves them alone.
 fn introduced(before: &str, after: &str) -> Vec<String> {
-    let lw = |t: &str| t.split(|c: char| !c.is_alphanumeric() && c != '\'').filter(|w| !w.is_empty()).map(str::to_lowercase).collect::<Vec<_>>();
+    let lw = |t: &str| {
+        t.split(|c: char| !c.is_alphanumeric() && c != '\'')
+            .filter(|w| !w.is_empty())
+            .map(str::to_lowercase)
+            .collect::<Vec<_>>()
+    };
     let old = lw(before);
     lw(after).into_iter().filter(|w| !old.contains(w)).collect()
 }
@@ -595,7 +648,17 @@ pub fn heavy_paraphrase(s: &str, rng: &mut Rng) -> Option<Edit> {
 
 /// Units by dimension; a unit changes only to another of its dimension and number.
 const UNIT_GROUPS: &[&[&str]] = &[
-    &["microseconds", "milliseconds", "seconds", "minutes", "hours", "days", "weeks", "months", "years"],
+    &[
+        "microseconds",
+        "milliseconds",
+        "seconds",
+        "minutes",
+        "hours",
+        "days",
+        "weeks",
+        "months",
+        "years",
+    ],
     &["microsecond", "millisecond", "second", "minute", "hour", "day", "week", "month", "year"],
     &["bytes", "kilobytes", "megabytes", "gigabytes", "terabytes", "bits"],
     &["byte", "kilobyte", "megabyte", "gigabyte", "terabyte", "bit"],
@@ -656,10 +719,45 @@ const GLUED_UNITS: &[&str] = &["kB", "KB", "MB", "GB", "TB", "KiB", "MiB", "GiB"
 /// Words before a number that make it a name (a standard, a section, a release) rather
 /// than a quantity.
 const LABELS: &[&str] = &[
-    "ISO", "RFC", "PEP", "Section", "section", "Chapter", "chapter", "Table", "Figure", "Example",
-    "Appendix", "version", "Version", "versions", "Python", "PostgreSQL", "release", "Release",
-    "Step", "step", "level", "Level", "ECMA", "IEEE", "UTF", "Unicode", "POSIX", "C", "C99",
-    "SQL", "X", "Windows", "Tk", "Tcl", "OpenSSL", "Perl", "Protocol", "protocol", "PL",
+    "ISO",
+    "RFC",
+    "PEP",
+    "Section",
+    "section",
+    "Chapter",
+    "chapter",
+    "Table",
+    "Figure",
+    "Example",
+    "Appendix",
+    "version",
+    "Version",
+    "versions",
+    "Python",
+    "PostgreSQL",
+    "release",
+    "Release",
+    "Step",
+    "step",
+    "level",
+    "Level",
+    "ECMA",
+    "IEEE",
+    "UTF",
+    "Unicode",
+    "POSIX",
+    "C",
+    "C99",
+    "SQL",
+    "X",
+    "Windows",
+    "Tk",
+    "Tcl",
+    "OpenSSL",
+    "Perl",
+    "Protocol",
+    "protocol",
+    "PL",
 ];
 
 /// Whether the number at `start` follows a label word.
@@ -711,7 +809,11 @@ pub fn change_figure(s: &str, rng: &mut Rng) -> Option<Edit> {
             j = 2 + rng.below(NUMBER_WORDS.len() - 2);
         }
         let text = replace_at(s, a, b, NUMBER_WORDS[j]);
-        return Some(Edit { detail: format!("{w} → {}", NUMBER_WORDS[j]), text, kind: "word".into() });
+        return Some(Edit {
+            detail: format!("{w} → {}", NUMBER_WORDS[j]),
+            text,
+            kind: "word".into(),
+        });
     }
     let n = &nums[k];
     let digits = &s[n.start..n.end];
@@ -721,7 +823,8 @@ pub fn change_figure(s: &str, rng: &mut Rng) -> Option<Edit> {
         ("thousands", group_thousands(w))
     } else if digits.matches('.').count() >= 2 || (digits.contains('.') && rng.chance(0.5)) {
         // A version or section number: bump one part.
-        let mut parts: Vec<u64> = digits.split('.').map(|p| p.parse().ok()).collect::<Option<_>>()?;
+        let mut parts: Vec<u64> =
+            digits.split('.').map(|p| p.parse().ok()).collect::<Option<_>>()?;
         let widths: Vec<usize> = digits.split('.').map(str::len).collect();
         let i = rng.below(parts.len());
         parts[i] = if parts[i] > 0 && rng.chance(0.5) { parts[i] - 1 } else { parts[i] + 1 };
@@ -729,7 +832,9 @@ pub fn change_figure(s: &str, rng: &mut Rng) -> Option<Edit> {
             .iter()
             .zip(&widths)
             .zip(digits.split('.'))
-            .map(|((p, w), orig)| format!("{p:0w$}", w = if orig.starts_with('0') { *w } else { 1 }))
+            .map(|((p, w), orig)| {
+                format!("{p:0w$}", w = if orig.starts_with('0') { *w } else { 1 })
+            })
             .collect::<Vec<_>>()
             .join(".");
         (if digits.matches('.').count() >= 2 { "version" } else { "decimal" }, new)
@@ -851,14 +956,20 @@ pub fn flip_polarity(s: &str, _rng: &mut Rng) -> Option<Edit> {
                 (replace_at(s, a, b, stem), format!("{w} → {stem}"))
             } else if lw == "not" && k > 0 {
                 let prev = s[ws[k - 1].0..ws[k - 1].1].to_lowercase();
-                if !AUXILIARIES.contains(&prev.as_str()) && !["has", "have", "had"].contains(&prev.as_str()) {
+                if !AUXILIARIES.contains(&prev.as_str())
+                    && !["has", "have", "had"].contains(&prev.as_str())
+                {
                     return None;
                 }
                 let next = ws.get(k + 1).map(|&(x, y)| s[x..y].to_lowercase()).unwrap_or_default();
-                if ["only", "all", "necessarily", "just", "always", "yet"].contains(&next.as_str()) {
+                if ["only", "all", "necessarily", "just", "always", "yet"].contains(&next.as_str())
+                {
                     return None;
                 }
-                (format!("{}{}", &s[..a], s[b..].trim_start()), format!("removed \"not\" after \"{prev}\""))
+                (
+                    format!("{}{}", &s[..a], s[b..].trim_start()),
+                    format!("removed \"not\" after \"{prev}\""),
+                )
             } else if lw == "never" {
                 (replace_at(s, a, b, "always"), "never → always".to_owned())
             } else {
@@ -880,13 +991,21 @@ pub fn flip_polarity(s: &str, _rng: &mut Rng) -> Option<Edit> {
             }
             let with = if lw == "can" { "cannot".to_owned() } else { format!("{lw} not") };
             let text = replace_at(s, a, b, &with);
-            return Some(Edit { detail: format!("{w} → {with}"), text, kind: "negation added".into() });
+            return Some(Edit {
+                detail: format!("{w} → {with}"),
+                text,
+                kind: "negation added".into(),
+            });
         }
         if k > 0 {
             if let Some(&(_, base)) = VERBS.iter().find(|(v, _)| *v == lw) {
                 let prev = s[ws[k - 1].0..ws[k - 1].1].to_lowercase();
                 let next = ws.get(k + 1).map(|&(x, y)| s[x..y].to_lowercase()).unwrap_or_default();
-                if ["to", "and", "or", "the", "a", "an", "of", "its", "their", "issue", "many", "all"].contains(&prev.as_str())
+                if [
+                    "to", "and", "or", "the", "a", "an", "of", "its", "their", "issue", "many",
+                    "all",
+                ]
+                .contains(&prev.as_str())
                     || ["of", "and", "or"].contains(&next.as_str())
                     || lw == "has"
                 {
@@ -894,7 +1013,11 @@ pub fn flip_polarity(s: &str, _rng: &mut Rng) -> Option<Edit> {
                 }
                 let with = format!("does not {base}");
                 let text = replace_at(s, a, b, &with);
-                return Some(Edit { detail: format!("{w} → {with}"), text, kind: "negation added".into() });
+                return Some(Edit {
+                    detail: format!("{w} → {with}"),
+                    text,
+                    kind: "negation added".into(),
+                });
             }
         }
     }
@@ -1051,15 +1174,28 @@ fn exclusions(s: &str, a: usize, b: usize) -> bool {
         || (w == "input" || w == "output") && next.starts_with("and")
 }
 
-fn swap_from(s: &str, rng: &mut Rng, list: &[(&str, &str)], both: bool, kind: &str) -> Option<Edit> {
-    let options: Vec<(usize, usize, String)> =
-        list_options(s, list, both).into_iter().filter(|(a, b, _)| !exclusions(s, *a, *b)).collect();
+fn swap_from(
+    s: &str,
+    rng: &mut Rng,
+    list: &[(&str, &str)],
+    both: bool,
+    kind: &str,
+) -> Option<Edit> {
+    let options: Vec<(usize, usize, String)> = list_options(s, list, both)
+        .into_iter()
+        .filter(|(a, b, _)| !exclusions(s, *a, *b))
+        .collect();
     if options.is_empty() {
         return None;
     }
     let (a, b, mut with) = options[rng.below(options.len())].clone();
     let next = s[b..].trim_start();
-    if s[a..b].eq_ignore_ascii_case("all") && (next.starts_with("the ") || next.starts_with("these ") || next.starts_with("its ") || next.starts_with("their ")) {
+    if s[a..b].eq_ignore_ascii_case("all")
+        && (next.starts_with("the ")
+            || next.starts_with("these ")
+            || next.starts_with("its ")
+            || next.starts_with("their "))
+    {
         with.push_str(" of"); // "all the rows" → "some of the rows"
     }
     let text = format!("{}{}{}", &s[..a], with, &s[b..]);
@@ -1089,17 +1225,126 @@ static IDENT_KINDS: LazyLock<Vec<(&'static str, Regex)>> = LazyLock::new(|| {
 
 /// Acronyms and names that are not identifiers of the manual's interface.
 const NOT_IDENTIFIERS: &[&str] = &[
-    "SQL", "API", "CPU", "CPUS", "ACL", "ACLS", "POSIX", "UTF", "ASCII", "JSON", "XML", "HTML",
-    "HTTP", "HTTPS", "URL", "URI", "TCP", "UDP", "SSL", "TLS", "LDAP", "GSSAPI", "SSPI", "RADIUS",
-    "PAM", "BSD", "GNU", "ISO", "ANSI", "IEEE", "RFC", "MVCC", "WAL", "OID", "OIDS", "GUC", "DDL",
-    "DML", "ECPG", "JIT", "LLVM", "ICU", "CSV", "NFS", "RAM", "SSD", "RAID", "UNIX", "LINUX",
-    "MSVC", "IPC", "PID", "UID", "GID", "TID", "XID", "LSN", "SPI", "ABI", "FAQ", "NOT", "AND",
-    "ALL", "ANY", "SOME", "NULL", "PostgreSQL", "JavaScript", "MySQL", "CPython", "PyPI",
-    "OpenSSL", "MacOS", "FreeBSD", "NetBSD", "OpenBSD", "IPv", "GiST", "ZeroDivisionError", "TCL",
-    "PHP", "PGXS", "GCC", "GDB", "CRC", "UTC", "GMT", "DST", "EST", "PST", "CET", "IDE", "GUI",
-    "CLI", "OSX", "IBM", "AIX", "HPUX", "SYSV", "PDF", "PNG", "USB", "DNS", "SSH", "FTP", "NFC",
-    "NFD", "NFKC", "NFKD", "MIT", "PSF", "BOM", "EOF", "CRLF", "PEP", "PEPS", "IDLE", "TODO",
-    "DOS", "WINDOWS",
+    "SQL",
+    "API",
+    "CPU",
+    "CPUS",
+    "ACL",
+    "ACLS",
+    "POSIX",
+    "UTF",
+    "ASCII",
+    "JSON",
+    "XML",
+    "HTML",
+    "HTTP",
+    "HTTPS",
+    "URL",
+    "URI",
+    "TCP",
+    "UDP",
+    "SSL",
+    "TLS",
+    "LDAP",
+    "GSSAPI",
+    "SSPI",
+    "RADIUS",
+    "PAM",
+    "BSD",
+    "GNU",
+    "ISO",
+    "ANSI",
+    "IEEE",
+    "RFC",
+    "MVCC",
+    "WAL",
+    "OID",
+    "OIDS",
+    "GUC",
+    "DDL",
+    "DML",
+    "ECPG",
+    "JIT",
+    "LLVM",
+    "ICU",
+    "CSV",
+    "NFS",
+    "RAM",
+    "SSD",
+    "RAID",
+    "UNIX",
+    "LINUX",
+    "MSVC",
+    "IPC",
+    "PID",
+    "UID",
+    "GID",
+    "TID",
+    "XID",
+    "LSN",
+    "SPI",
+    "ABI",
+    "FAQ",
+    "NOT",
+    "AND",
+    "ALL",
+    "ANY",
+    "SOME",
+    "NULL",
+    "PostgreSQL",
+    "JavaScript",
+    "MySQL",
+    "CPython",
+    "PyPI",
+    "OpenSSL",
+    "MacOS",
+    "FreeBSD",
+    "NetBSD",
+    "OpenBSD",
+    "IPv",
+    "GiST",
+    "ZeroDivisionError",
+    "TCL",
+    "PHP",
+    "PGXS",
+    "GCC",
+    "GDB",
+    "CRC",
+    "UTC",
+    "GMT",
+    "DST",
+    "EST",
+    "PST",
+    "CET",
+    "IDE",
+    "GUI",
+    "CLI",
+    "OSX",
+    "IBM",
+    "AIX",
+    "HPUX",
+    "SYSV",
+    "PDF",
+    "PNG",
+    "USB",
+    "DNS",
+    "SSH",
+    "FTP",
+    "NFC",
+    "NFD",
+    "NFKC",
+    "NFKD",
+    "MIT",
+    "PSF",
+    "BOM",
+    "EOF",
+    "CRLF",
+    "PEP",
+    "PEPS",
+    "IDLE",
+    "TODO",
+    "DOS",
+    "WINDOWS",
 ];
 
 fn ident_ok(w: &str) -> bool {
@@ -1125,15 +1370,24 @@ pub fn page_identifiers(text: &str) -> Vec<(&'static str, Vec<String>)> {
 
 /// One identifier of the sentence replaced by another of the same shape from the same
 /// page (that the sentence does not already name).
-pub fn swap_identifier(s: &str, page: &[(&'static str, Vec<String>)], rng: &mut Rng) -> Option<Edit> {
+pub fn swap_identifier(
+    s: &str,
+    page: &[(&'static str, Vec<String>)],
+    rng: &mut Rng,
+) -> Option<Edit> {
     let mut options = Vec::new();
     let lower = s.to_lowercase();
     for (kind, r) in IDENT_KINDS.iter() {
         let Some((_, pool)) = page.iter().find(|(k, _)| k == kind) else { continue };
         for m in r.find_iter(s) {
             let w = m.as_str();
-            let glued = |c: Option<char>| c.is_some_and(|c| c == '.' || c == '_' || c.is_alphanumeric());
-            if !ident_ok(w) || glued(s[..m.start()].chars().next_back()) || (glued(s[m.end()..].chars().next()) && s[m.end()..].chars().nth(1).is_some_and(|c| c.is_alphanumeric())) {
+            let glued =
+                |c: Option<char>| c.is_some_and(|c| c == '.' || c == '_' || c.is_alphanumeric());
+            if !ident_ok(w)
+                || glued(s[..m.start()].chars().next_back())
+                || (glued(s[m.end()..].chars().next())
+                    && s[m.end()..].chars().nth(1).is_some_and(|c| c.is_alphanumeric()))
+            {
                 continue;
             }
             let others: Vec<&String> = pool
@@ -1164,23 +1418,133 @@ pub fn swap_identifier(s: &str, page: &[(&'static str, Vec<String>)], rng: &mut 
 
 /// Words at which a sentence's subject ends and its predicate begins.
 const PIVOTS: &[&str] = &[
-    "is", "are", "was", "were", "can", "cannot", "will", "must", "should", "may", "might",
-    "would", "could", "does", "do", "returns", "contains", "uses", "provides", "allows",
-    "requires", "supports", "accepts", "creates", "causes", "prevents", "includes", "controls",
-    "specifies", "determines", "defines", "means", "gives", "takes", "makes", "becomes",
-    "reports", "shows", "displays", "stores", "has", "have",
+    "is",
+    "are",
+    "was",
+    "were",
+    "can",
+    "cannot",
+    "will",
+    "must",
+    "should",
+    "may",
+    "might",
+    "would",
+    "could",
+    "does",
+    "do",
+    "returns",
+    "contains",
+    "uses",
+    "provides",
+    "allows",
+    "requires",
+    "supports",
+    "accepts",
+    "creates",
+    "causes",
+    "prevents",
+    "includes",
+    "controls",
+    "specifies",
+    "determines",
+    "defines",
+    "means",
+    "gives",
+    "takes",
+    "makes",
+    "becomes",
+    "reports",
+    "shows",
+    "displays",
+    "stores",
+    "has",
+    "have",
 ];
 
 /// First words that do not open a noun-phrase subject.
 const NOT_SUBJECT: &[&str] = &[
-    "if", "when", "although", "because", "since", "unless", "while", "once", "after", "before",
-    "for", "in", "on", "to", "with", "by", "as", "at", "from", "note", "however", "also", "thus",
-    "therefore", "otherwise", "instead", "here", "there", "it", "they", "this", "that", "these",
-    "those", "we", "you", "he", "she", "one", "such", "so", "but", "and", "or", "then", "now",
-    "only", "even", "what", "which", "who", "how", "where", "whether", "without", "during",
-    "under", "over", "within", "between", "like", "unlike", "other", "another", "both", "either",
-    "neither", "no", "not", "all", "some", "any", "each", "every", "most", "many", "several",
-    "usually", "typically", "generally", "normally",
+    "if",
+    "when",
+    "although",
+    "because",
+    "since",
+    "unless",
+    "while",
+    "once",
+    "after",
+    "before",
+    "for",
+    "in",
+    "on",
+    "to",
+    "with",
+    "by",
+    "as",
+    "at",
+    "from",
+    "note",
+    "however",
+    "also",
+    "thus",
+    "therefore",
+    "otherwise",
+    "instead",
+    "here",
+    "there",
+    "it",
+    "they",
+    "this",
+    "that",
+    "these",
+    "those",
+    "we",
+    "you",
+    "he",
+    "she",
+    "one",
+    "such",
+    "so",
+    "but",
+    "and",
+    "or",
+    "then",
+    "now",
+    "only",
+    "even",
+    "what",
+    "which",
+    "who",
+    "how",
+    "where",
+    "whether",
+    "without",
+    "during",
+    "under",
+    "over",
+    "within",
+    "between",
+    "like",
+    "unlike",
+    "other",
+    "another",
+    "both",
+    "either",
+    "neither",
+    "no",
+    "not",
+    "all",
+    "some",
+    "any",
+    "each",
+    "every",
+    "most",
+    "many",
+    "several",
+    "usually",
+    "typically",
+    "generally",
+    "normally",
 ];
 
 /// Whether a word names a thing on its own: an identifier, an acronym or a name.
@@ -1209,7 +1573,8 @@ fn subject_and_predicate(s: &str) -> Option<(String, String)> {
     if subject.iter().any(|w| {
         let w = w.to_lowercase();
         CLAUSE_WORDS.contains(&w.as_str()) || VERBS.iter().any(|(v, _)| *v == w) || w == "indicates"
-    }) || ["of", "to", "the", "a", "an", "for", "in", "on", "with", "by"].contains(&last.as_str())
+    }) || ["of", "to", "the", "a", "an", "for", "in", "on", "with", "by"]
+        .contains(&last.as_str())
     {
         return None;
     }
@@ -1231,7 +1596,10 @@ pub fn recombine(a: &str, b: &str, stems: impl Fn(&str) -> Vec<String>) -> Optio
     }
     let text = format!("{sa} {pb}");
     Some(Edit {
-        detail: format!("subject \"{sa}\" of one sentence with the predicate \"{}…\" of another", shorten(&pb, 40)),
+        detail: format!(
+            "subject \"{sa}\" of one sentence with the predicate \"{}…\" of another",
+            shorten(&pb, 40)
+        ),
         text,
         kind: "recombined".into(),
     })
@@ -1249,7 +1617,9 @@ pub fn join_clause(a: &str, c: &str) -> Option<Edit> {
         return None;
     }
     let text = format!("{body}, and {}.", decapitalise(clause));
-    Some(Edit { detail: format!("joined \"{}…\"", shorten(clause, 50)), text, kind: "and".into() })
+    Some(Edit {
+        detail: format!("joined \"{}…\"", shorten(clause, 50)), text, kind: "and".into()
+    })
 }
 
 /// Things an assistant says that make no claim about the documents.
@@ -1343,17 +1713,50 @@ pub fn self_test() -> Vec<String> {
         "a figure inside a name was changed".into(),
     );
     // Units: number kept, unit changed within its dimension.
-    let t = text(&mut bad, change_unit("The check runs every 5 minutes by default.", &mut rng), "unit");
+    let t =
+        text(&mut bad, change_unit("The check runs every 5 minutes by default.", &mut rng), "unit");
     check(&mut bad, t.contains("every 5 ") && !t.contains("5 minutes"), format!("unit: {t}"));
-    check(&mut bad, change_unit("It holds 5 rows per page.", &mut rng).is_none(), "rows is not a unit".into());
+    check(
+        &mut bad,
+        change_unit("It holds 5 rows per page.", &mut rng).is_none(),
+        "rows is not a unit".into(),
+    );
     // Polarity: added where there is none, removed where there is exactly one.
-    let t = text(&mut bad, flip_polarity("The index is marked invalid by the command.", &mut rng), "flip");
-    check(&mut bad, t == "The index is not marked invalid by the command.", format!("flip add: {t}"));
-    let t = text(&mut bad, flip_polarity("Special files cannot be copied with this function.", &mut rng), "flip");
-    check(&mut bad, t == "Special files can be copied with this function.", format!("flip cannot: {t}"));
-    let t = text(&mut bad, flip_polarity("The server returns an error for such input.", &mut rng), "flip");
-    check(&mut bad, t == "The server does not return an error for such input.", format!("flip verb: {t}"));
-    check(&mut bad, flip_polarity("It is not used and never read.", &mut rng).is_none(), "two negations".into());
+    let t = text(
+        &mut bad,
+        flip_polarity("The index is marked invalid by the command.", &mut rng),
+        "flip",
+    );
+    check(
+        &mut bad,
+        t == "The index is not marked invalid by the command.",
+        format!("flip add: {t}"),
+    );
+    let t = text(
+        &mut bad,
+        flip_polarity("Special files cannot be copied with this function.", &mut rng),
+        "flip",
+    );
+    check(
+        &mut bad,
+        t == "Special files can be copied with this function.",
+        format!("flip cannot: {t}"),
+    );
+    let t = text(
+        &mut bad,
+        flip_polarity("The server returns an error for such input.", &mut rng),
+        "flip",
+    );
+    check(
+        &mut bad,
+        t == "The server does not return an error for such input.",
+        format!("flip verb: {t}"),
+    );
+    check(
+        &mut bad,
+        flip_polarity("It is not used and never read.", &mut rng).is_none(),
+        "two negations".into(),
+    );
     // Light edits keep figures, negations and identifiers.
     for s in [
         "However, the server does not allow 3 retries of maintenance_work_mem changes.",
@@ -1362,26 +1765,84 @@ pub fn self_test() -> Vec<String> {
     ] {
         for _ in 0..20 {
             if let Some(e) = light_edit(s, &mut rng) {
-                check(&mut bad, keeps_meaning(s, &e.text), format!("light edit changed meaning: {}", e.text));
+                check(
+                    &mut bad,
+                    keeps_meaning(s, &e.text),
+                    format!("light edit changed meaning: {}", e.text),
+                );
             }
         }
     }
-    let t = text(&mut bad, reorder("If the value is null, the function returns nothing.", &mut rng), "reorder");
-    check(&mut bad, t == "The function returns nothing if the value is null.", format!("reorder: {t}"));
-    let t = text(&mut bad, reorder("The function returns nothing if the value is null.", &mut rng), "reorder");
-    check(&mut bad, t == "If the value is null, the function returns nothing.", format!("reorder back: {t}"));
-    check(&mut bad, !keeps_meaning("It is 5.", "It is 6."), "keeps_meaning must see figures".into());
-    check(&mut bad, !keeps_meaning("It is set.", "It is not set."), "keeps_meaning must see negation".into());
+    let t = text(
+        &mut bad,
+        reorder("If the value is null, the function returns nothing.", &mut rng),
+        "reorder",
+    );
+    check(
+        &mut bad,
+        t == "The function returns nothing if the value is null.",
+        format!("reorder: {t}"),
+    );
+    let t = text(
+        &mut bad,
+        reorder("The function returns nothing if the value is null.", &mut rng),
+        "reorder",
+    );
+    check(
+        &mut bad,
+        t == "If the value is null, the function returns nothing.",
+        format!("reorder back: {t}"),
+    );
+    let t = text(
+        &mut bad,
+        reorder("If the list is empty, then the call returns nothing.", &mut rng),
+        "then",
+    );
+    check(
+        &mut bad,
+        t == "The call returns nothing if the list is empty.",
+        format!("reorder then: {t}"),
+    );
+    check(
+        &mut bad,
+        reorder("The file need only be read if the cache is cold.", &mut rng).is_none(),
+        "a clause moved past \"only\"".into(),
+    );
+    for _ in 0..10 {
+        let e = synonym("It is slower because of the extra calls.", &[], &mut rng);
+        check(&mut bad, e.is_none(), "\"because of\" must stay".into());
+    }
+    check(
+        &mut bad,
+        drop_modifier("Return a tuple of (data, address).", &mut rng).is_none(),
+        "a parenthesised object was dropped".into(),
+    );
+    check(
+        &mut bad,
+        !keeps_meaning("It is 5.", "It is 6."),
+        "keeps_meaning must see figures".into(),
+    );
+    check(
+        &mut bad,
+        !keeps_meaning("It is set.", "It is not set."),
+        "keeps_meaning must see negation".into(),
+    );
     // Opposites: only prose words, not parts of names.
     check(
         &mut bad,
         swap_opposite("Set enable_seqscan to on for the whole session.", &mut rng).is_none(),
         "opposite inside a name".into(),
     );
-    let t = text(&mut bad, swap_opposite("The minimum value is used for the first pass.", &mut rng), "opposite");
+    let t = text(
+        &mut bad,
+        swap_opposite("The minimum value is used for the first pass.", &mut rng),
+        "opposite",
+    );
     check(&mut bad, t.contains("maximum") || t.contains("last pass"), format!("opposite: {t}"));
     // Identifiers: same shape, from the page.
-    let page = page_identifiers("Use work_mem and maintenance_work_mem; see os.path.join and shutil.copy.");
+    let page = page_identifiers(
+        "Use work_mem and maintenance_work_mem; see os.path.join and shutil.copy.",
+    );
     let t = text(
         &mut bad,
         swap_identifier("The setting work_mem limits the memory of a sort.", &page, &mut rng),
@@ -1389,9 +1850,8 @@ pub fn self_test() -> Vec<String> {
     );
     check(&mut bad, t.contains("maintenance_work_mem"), format!("identifier: {t}"));
     // Recombination needs two different noun-phrase subjects.
-    let words_of = |t: &str| {
-        t.split(' ').map(str::to_lowercase).filter(|w| w != "the").collect::<Vec<_>>()
-    };
+    let words_of =
+        |t: &str| t.split(' ').map(str::to_lowercase).filter(|w| w != "the").collect::<Vec<_>>();
     check(
         &mut bad,
         recombine(
@@ -1411,6 +1871,10 @@ pub fn self_test() -> Vec<String> {
         ),
         "recombine",
     );
-    check(&mut bad, t == "The planner must have at least a share of the memory budget.", format!("recombine: {t}"));
+    check(
+        &mut bad,
+        t == "The planner must have at least a share of the memory budget.",
+        format!("recombine: {t}"),
+    );
     bad
 }

@@ -272,9 +272,7 @@ pub struct Admissible {
 
 impl Admissible {
     pub fn build(c: &Corpus) -> Admissible {
-        let per_doc: Vec<(usize, Vec<(Class, u32)>, Vec<(&'static str, Vec<String>)>)> = (0..c
-            .docs
-            .len())
+        let per_doc: Vec<DocAdmissible> = (0..c.docs.len())
             .into_par_iter()
             .filter(|&d| c.docs[d].pool && !c.docs[d].candidates.is_empty())
             .map(|d| {
@@ -355,6 +353,12 @@ fn make_edit(
     }
 }
 
+/// Identifiers of a page by shape (see [`edits::page_identifiers`]).
+type PageIdentifiers = Vec<(&'static str, Vec<String>)>;
+
+/// One document's admissible sentences by class, and its identifiers.
+type DocAdmissible = (usize, Vec<(Class, u32)>, PageIdentifiers);
+
 /// Everything answers are made from.
 pub struct Generator<'a> {
     pub corpus: &'a Corpus,
@@ -374,10 +378,8 @@ struct Cite {
 
 impl<'a> Generator<'a> {
     pub fn new(corpus: &'a Corpus, admissible: &'a Admissible, seed: u64) -> Generator<'a> {
-        let pools = [Split::Tuning, Split::Test]
-            .into_iter()
-            .map(|s| (s, corpus.pool(s, 2)))
-            .collect();
+        let pools =
+            [Split::Tuning, Split::Test].into_iter().map(|s| (s, corpus.pool(s, 2))).collect();
         Generator { corpus, admissible, seed, pools }
     }
 
@@ -415,7 +417,10 @@ impl<'a> Generator<'a> {
         let markers = rng.chance(0.93);
         let ncit = if markers && rng.chance(0.3) { 2 } else { 1 };
         let defect = if rng.chance(0.14) {
-            Some([Defect::Dead, Defect::BadLocator, Defect::Stale, Defect::QuoteMismatch][rng.below(4)])
+            Some(
+                [Defect::Dead, Defect::BadLocator, Defect::Stale, Defect::QuoteMismatch]
+                    [rng.below(4)],
+            )
         } else {
             None
         };
@@ -433,7 +438,9 @@ impl<'a> Generator<'a> {
                     Class::ALL[rng.weighted(&weights)]
                 };
                 for _ in 0..40 {
-                    if let Some(c) = self.citation(split, class, &mut rng, groups.as_deref(), defect, &cites) {
+                    if let Some(c) =
+                        self.citation(split, class, &mut rng, groups.as_deref(), defect, &cites)
+                    {
                         made = Some(c);
                         break 'draw;
                     }
@@ -489,7 +496,8 @@ impl<'a> Generator<'a> {
             parts.push(written);
             let c = ci.map(|i| &cites[i]);
             let passage_text = c.map(|c| {
-                let text = &self.corpus.store.documents[c.passage.doc].visible_text()[c.passage.visible.clone()];
+                let text = &self.corpus.store.documents[c.passage.doc].visible_text()
+                    [c.passage.visible.clone()];
                 cut(text, 1500)
             });
             out.labels.push(Label {
@@ -584,9 +592,10 @@ impl<'a> Generator<'a> {
         let usable = |d: usize| {
             let ent = entitlement(groups, &c.docs[d].access);
             // Both sides unknown has no status of its own in SPEC.md; leave it out.
-            !(groups.is_none() && c.docs[d].access == Access::Unlisted)
-                && (!matches!(defect, Some(Defect::Stale | Defect::QuoteMismatch)) || ent == Ent::Allowed)
-                && !earlier.iter().any(|e| e.passage.doc == d)
+            let both_unknown = groups.is_none() && c.docs[d].access == Access::Unlisted;
+            let needs_allowed = matches!(defect, Some(Defect::Stale | Defect::QuoteMismatch));
+            let cited_before = earlier.iter().any(|e| e.passage.doc == d);
+            !both_unknown && (!needs_allowed || ent == Ent::Allowed) && !cited_before
         };
 
         let (passage, first) = if class == Class::OtherDocument {
@@ -618,7 +627,8 @@ impl<'a> Generator<'a> {
         let d = passage.doc;
         let ent = entitlement(groups, &c.docs[d].access);
         let mut drafts = vec![first];
-        let mut used: Vec<usize> = drafts.iter().filter_map(|x| x.source.filter(|s| s.0 == d).map(|s| s.1)).collect();
+        let mut used: Vec<usize> =
+            drafts.iter().filter_map(|x| x.source.filter(|s| s.0 == d).map(|s| s.1)).collect();
 
         // A second sentence of another class from the same passage.
         if !broken && rng.chance(0.35) {
@@ -660,7 +670,11 @@ impl<'a> Generator<'a> {
             let i = free[rng.below(free.len())];
             drafts.push(Draft {
                 class: Class::Verbatim,
-                edit: Edit { text: render(c.sentence(d, i)), detail: String::new(), kind: "anchor".into() },
+                edit: Edit {
+                    text: render(c.sentence(d, i)),
+                    detail: String::new(),
+                    kind: "anchor".into(),
+                },
                 source: Some((d, i)),
                 expect_doc: None,
             });
@@ -742,14 +756,24 @@ impl<'a> Generator<'a> {
             let vis = doc.visible_range(chunk.start, chunk.end);
             let want = c.span(d, i..i + 1);
             if count(&r) >= 2 && vis.start <= want.start && vis.end >= want.end {
-                return Some(Passage { doc: d, sentences: r, locator: Locator::Chunk(chunk.id.clone()), visible: vis });
+                return Some(Passage {
+                    doc: d,
+                    sentences: r,
+                    locator: Locator::Chunk(chunk.id.clone()),
+                    visible: vis,
+                });
             }
         }
         if form == 2 || form == 1 {
             let r = i.saturating_sub(3)..(i + 4).min(n);
             if count(&r) >= 2 {
                 let vis = 0..doc.visible_text().len();
-                return Some(Passage { doc: d, sentences: r, locator: Locator::Whole, visible: vis });
+                return Some(Passage {
+                    doc: d,
+                    sentences: r,
+                    locator: Locator::Whole,
+                    visible: vis,
+                });
             }
         }
         let mut lo = i.saturating_sub(rng.below(4));
@@ -767,7 +791,12 @@ impl<'a> Generator<'a> {
         if back.start > vis.start || back.end < vis.end {
             return None;
         }
-        Some(Passage { doc: d, sentences: lo..hi, locator: Locator::Range(file.start, file.end), visible: back })
+        Some(Passage {
+            doc: d,
+            sentences: lo..hi,
+            locator: Locator::Range(file.start, file.end),
+            visible: back,
+        })
     }
 
     /// For a changed figure: notes in the detail when the new value also stands in the
@@ -780,7 +809,8 @@ impl<'a> Generator<'a> {
         let new = edit.detail.rsplit("→ ").next().unwrap_or("").replace(',', "");
         let text = &self.corpus.store.documents[p.doc].visible_text()[p.visible.clone()];
         let region = if matches!(p.locator, Locator::Whole) {
-            &self.corpus.store.documents[p.doc].visible_text()[self.corpus.span(p.doc, p.sentences.clone())]
+            &self.corpus.store.documents[p.doc].visible_text()
+                [self.corpus.span(p.doc, p.sentences.clone())]
         } else {
             text
         };
@@ -798,8 +828,12 @@ impl<'a> Generator<'a> {
     /// sentence of the passage.
     fn fabricate(&self, p: &Passage, i: usize, s: &str, rng: &mut Rng) -> Option<Edit> {
         let c = self.corpus;
-        let mut others: Vec<usize> =
-            c.docs[p.doc].candidates.iter().copied().filter(|j| *j != i && p.sentences.contains(j)).collect();
+        let mut others: Vec<usize> = c.docs[p.doc]
+            .candidates
+            .iter()
+            .copied()
+            .filter(|j| *j != i && p.sentences.contains(j))
+            .collect();
         rng.shuffle(&mut others);
         for j in others {
             let b = render(c.sentence(p.doc, j));
@@ -829,7 +863,14 @@ impl<'a> Generator<'a> {
     }
 
     /// A sentence of `class` made from another sentence of the passage.
-    fn second(&self, p: &Passage, class: Class, used: &[usize], split: Split, rng: &mut Rng) -> Option<Draft> {
+    fn second(
+        &self,
+        p: &Passage,
+        class: Class,
+        used: &[usize],
+        split: Split,
+        rng: &mut Rng,
+    ) -> Option<Draft> {
         let c = self.corpus;
         let _ = split;
         let mut js: Vec<usize> = self
@@ -847,7 +888,9 @@ impl<'a> Generator<'a> {
         let s = render(c.sentence(p.doc, j));
         let edit = match class {
             Class::Fabricated => self.fabricate(p, j, &s, rng)?,
-            Class::JoinedClause => edits::join_clause(&s, &self.unrelated_clause(split, p.doc, rng)?)?,
+            Class::JoinedClause => {
+                edits::join_clause(&s, &self.unrelated_clause(split, p.doc, rng)?)?
+            }
             _ => make_edit(class, &s, &self.admissible.idents[&p.doc], rng)?,
         };
         let edit = self.note_coincidence(class, edit, p);
@@ -930,8 +973,12 @@ impl<'a> Generator<'a> {
                     v.insert("sha256".into(), json!(sha));
                 }
                 if rng.chance(0.15) {
-                    let cands: Vec<usize> =
-                        c.docs[p.doc].candidates.iter().copied().filter(|i| p.sentences.contains(i)).collect();
+                    let cands: Vec<usize> = c.docs[p.doc]
+                        .candidates
+                        .iter()
+                        .copied()
+                        .filter(|i| p.sentences.contains(i))
+                        .collect();
                     if let Some(&i) = cands.first() {
                         v.insert("quote".into(), json!(c.sentence(p.doc, i)));
                     }
@@ -969,7 +1016,10 @@ impl<'a> Generator<'a> {
 
 /// Lower-case alphanumeric words: this benchmark's own reading of "the same words".
 fn plain_words(s: &str) -> Vec<String> {
-    s.split(|ch: char| !ch.is_alphanumeric()).filter(|w| !w.is_empty()).map(str::to_lowercase).collect()
+    s.split(|ch: char| !ch.is_alphanumeric())
+        .filter(|w| !w.is_empty())
+        .map(str::to_lowercase)
+        .collect()
 }
 
 fn hex(b: &[u8]) -> String {

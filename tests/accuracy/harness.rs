@@ -81,7 +81,8 @@ fn parse_args() -> Result<Args, String> {
             "--work" => a.work = PathBuf::from(val("--work")?),
             "--seed" => a.seed = val("--seed")?.parse().map_err(|e| format!("--seed: {e}"))?,
             "--sentences" => {
-                a.sentences = val("--sentences")?.parse().map_err(|e| format!("--sentences: {e}"))?
+                a.sentences =
+                    val("--sentences")?.parse().map_err(|e| format!("--sentences: {e}"))?
             }
             "--ci-sentences" => {
                 a.ci_sentences =
@@ -130,7 +131,10 @@ fn run(args: &Args) -> Result<bool, String> {
     let started = Instant::now();
     let bad = edits::self_test();
     if !bad.is_empty() {
-        return Err(format!("the generator's edit rules fail their self-test:\n  {}", bad.join("\n  ")));
+        return Err(format!(
+            "the generator's edit rules fail their self-test:\n  {}",
+            bad.join("\n  ")
+        ));
     }
     println!("machine: {} cores; mode {}; seed {}", cores(), args.mode, args.seed);
     std::fs::create_dir_all(&args.work).map_err(|e| format!("{}: {e}", args.work.display()))?;
@@ -188,7 +192,10 @@ fn run(args: &Args) -> Result<bool, String> {
         let answers = args.work.join(format!("answers-{name}.jsonl"));
         write_lines(&answers, g.answers.iter())?;
         write_lines(&args.work.join(format!("labels-{name}.jsonl")), g.labels.iter().map(to_json))?;
-        write_lines(&args.work.join(format!("citations-{name}.jsonl")), g.citations.iter().map(to_json))?;
+        write_lines(
+            &args.work.join(format!("citations-{name}.jsonl")),
+            g.citations.iter().map(to_json),
+        )?;
         answers_files.push((*split, answers));
     }
 
@@ -197,7 +204,8 @@ fn run(args: &Args) -> Result<bool, String> {
     let mut check_seconds = 0.0;
     for (split, answers) in &answers_files {
         let out = args.work.join(format!("findings-{}.json", split.as_str()));
-        let (report, secs) = check(bin, &args.store, answers, &principals, args.config.as_deref(), &out)?;
+        let (report, secs) =
+            check(bin, &args.store, answers, &principals, args.config.as_deref(), &out)?;
         println!("plumbline check on the {} split: {secs:.1}s", split.as_str());
         check_seconds += secs;
         reports.push((*split, report));
@@ -240,14 +248,20 @@ fn run(args: &Args) -> Result<bool, String> {
         let mut failures = score::failures(&tl, &found, 300);
         failures.extend(score::failures(&ul, &found, 300));
         write_lines(&args.work.join("failures.jsonl"), failures.iter())?;
-        println!("\nfailure examples: {} written to {}", failures.len(), args.work.join("failures.jsonl").display());
+        println!(
+            "\nfailure examples: {} written to {}",
+            failures.len(),
+            args.work.join("failures.jsonl").display()
+        );
         results["tuning"] = to_json(&tuning_scores);
         results["test"] = to_json(&test_scores);
         results["ci"] = to_json(&ci_scores);
 
         if args.sweep {
-            let tuning_answers = &answers_files.iter().find(|(s, _)| *s == Split::Tuning).expect("tuning").1;
-            let test_answers = &answers_files.iter().find(|(s, _)| *s == Split::Test).expect("test").1;
+            let tuning_answers =
+                &answers_files.iter().find(|(s, _)| *s == Split::Tuning).expect("tuning").1;
+            let test_answers =
+                &answers_files.iter().find(|(s, _)| *s == Split::Test).expect("test").1;
             let sw = sweep::run(&sweep::Inputs {
                 bin,
                 store: &args.store,
@@ -263,7 +277,8 @@ fn run(args: &Args) -> Result<bool, String> {
         }
         let seconds = started.elapsed().as_secs_f64();
         results["seconds"] = json!(seconds);
-        results["timing"] = json!({"generate": gen_seconds, "check": check_seconds, "total": seconds});
+        results["timing"] =
+            json!({"generate": gen_seconds, "check": check_seconds, "total": seconds});
         if args.write_readme {
             let info = readme::RunInfo {
                 date: plumbline::run::utc_now()[..10].to_owned(),
@@ -274,7 +289,8 @@ fn run(args: &Args) -> Result<bool, String> {
                 documents: corpus.docs.len(),
                 seconds,
             };
-            let text = std::fs::read_to_string(&args.readme).map_err(|e| format!("{}: {e}", args.readme.display()))?;
+            let text = std::fs::read_to_string(&args.readme)
+                .map_err(|e| format!("{}: {e}", args.readme.display()))?;
             let new = readme::replace_block(&text, &readme::block(&info, &test_scores, &ci_scores));
             write(&args.readme, &new)?;
             println!("README block rewritten in {}", args.readme.display());
@@ -282,14 +298,23 @@ fn run(args: &Args) -> Result<bool, String> {
     } else {
         print!("\n{}", score::table(&ci_scores));
         results["ci"] = to_json(&ci_scores);
-        let text = std::fs::read_to_string(&args.readme).map_err(|e| format!("{}: {e}", args.readme.display()))?;
+        let text = std::fs::read_to_string(&args.readme)
+            .map_err(|e| format!("{}: {e}", args.readme.display()))?;
         let want = readme::ci_figures(&text)?;
         let bad = readme::regressions(&want, &ci_scores);
         if bad.is_empty() {
-            println!("\nCI check: all {} figures within {:.0} points of README", want.len(), readme::TOLERANCE);
+            println!(
+                "\nCI check: all {} figures within {:.0} points of README",
+                want.len(),
+                readme::TOLERANCE
+            );
         } else {
             ok = false;
-            println!("\nCI check FAILED: {} figure(s) fell more than {:.0} points below README:", bad.len(), readme::TOLERANCE);
+            println!(
+                "\nCI check FAILED: {} figure(s) fell more than {:.0} points below README:",
+                bad.len(),
+                readme::TOLERANCE
+            );
             for b in &bad {
                 println!("  {b}");
             }
@@ -299,24 +324,21 @@ fn run(args: &Args) -> Result<bool, String> {
     }
     let path = args.work.join(format!("results-{}.json", args.mode));
     write(&path, &serde_json::to_string_pretty(&results).map_err(|e| e.to_string())?)?;
-    println!("results written to {}; {:.1}s in all", path.display(), started.elapsed().as_secs_f64());
+    println!(
+        "results written to {}; {:.1}s in all",
+        path.display(),
+        started.elapsed().as_secs_f64()
+    );
     Ok(ok)
 }
 
 /// Number of test answers in the CI subset: the first answers whose labelled sentences
 /// reach `sentences` (what `--mode ci` generates).
 fn ci_prefix(g: &Generated, sentences: usize) -> usize {
-    let mut count = 0;
-    let mut n = 0;
-    for l in &g.labels {
-        if count >= sentences {
-            break;
-        }
-        count += 1;
-        n = l.number + 1;
-    }
-    // Labels of one answer are consecutive; finish the answer the count stopped in.
-    n
+    // Labels of one answer are consecutive: the answer whose label reaches the count is
+    // the last one generated.
+    let last = g.labels.iter().enumerate().find(|(i, _)| i + 1 >= sentences).map(|(_, l)| l);
+    last.or(g.labels.last()).map_or(0, |l| l.number + 1)
 }
 
 /// Runs `plumbline check` and reads its findings back.
@@ -344,7 +366,12 @@ pub fn check(
     let report: Report = serde_json::from_reader(std::io::BufReader::new(f))
         .map_err(|e| format!("{}: not a findings document: {e}", out.display()))?;
     if report.summary.lines_rejected > 0 {
-        return Err(format!("{}: {} answer lines were rejected: {:?}", answers.display(), report.summary.lines_rejected, report.rejected.first()));
+        return Err(format!(
+            "{}: {} answer lines were rejected: {:?}",
+            answers.display(),
+            report.summary.lines_rejected,
+            report.rejected.first()
+        ));
     }
     Ok((report, secs))
 }
@@ -411,7 +438,8 @@ fn commit() -> String {
             .map(|o| String::from_utf8_lossy(&o.stdout).trim().to_owned())
     };
     let hash = out(&["rev-parse", "--short", "HEAD"]).unwrap_or_else(|| "unknown".into());
-    let dirty = out(&["status", "--porcelain", "--untracked-files=no"]).is_some_and(|s| !s.is_empty());
+    let dirty =
+        out(&["status", "--porcelain", "--untracked-files=no"]).is_some_and(|s| !s.is_empty());
     if dirty { format!("{hash}-dirty") } else { hash }
 }
 
@@ -423,7 +451,10 @@ fn write(path: &Path, text: &str) -> Result<(), String> {
     std::fs::write(path, text).map_err(|e| format!("{}: {e}", path.display()))
 }
 
-fn write_lines<'a, T: serde::Serialize + 'a>(path: &Path, items: impl Iterator<Item = T>) -> Result<(), String> {
+fn write_lines<'a, T: serde::Serialize + 'a>(
+    path: &Path,
+    items: impl Iterator<Item = T>,
+) -> Result<(), String> {
     let f = std::fs::File::create(path).map_err(|e| format!("{}: {e}", path.display()))?;
     let mut w = std::io::BufWriter::new(f);
     for x in items {

@@ -91,7 +91,9 @@ pub fn replace_block(text: &str, new: &str) -> String {
 /// The CI column of the block, by key.
 pub fn ci_figures(text: &str) -> Result<BTreeMap<String, f64>, String> {
     let (Some(a), Some(b)) = (text.find(BEGIN), text.find(END)) else {
-        return Err(format!("README has no {BEGIN} … {END} block; run `tests/accuracy/run.sh full --write-readme`"));
+        return Err(format!(
+            "README has no {BEGIN} … {END} block; run `tests/accuracy/run.sh full --write-readme`"
+        ));
     };
     let mut out = BTreeMap::new();
     for (k, line) in text[a..b].lines().enumerate() {
@@ -99,10 +101,12 @@ pub fn ci_figures(text: &str) -> Result<BTreeMap<String, f64>, String> {
         let key = rest.split('`').next().unwrap_or("").to_owned();
         let cells: Vec<&str> = line.trim().trim_matches('|').split('|').map(str::trim).collect();
         let last = cells.last().copied().unwrap_or("");
-        let v: f64 = last
-            .trim_end_matches('%')
-            .parse()
-            .map_err(|_| format!("README accuracy block, row {} ({key}): last cell {last:?} is not a percentage", k + 1))?;
+        let v: f64 = last.trim_end_matches('%').parse().map_err(|_| {
+            format!(
+                "README accuracy block, row {} ({key}): last cell {last:?} is not a percentage",
+                k + 1
+            )
+        })?;
         out.insert(key, v);
     }
     if out.is_empty() {
@@ -117,7 +121,9 @@ pub fn regressions(readme: &BTreeMap<String, f64>, ci: &Scores) -> Vec<String> {
     for (key, want) in readme {
         match ci.row(key) {
             Some(r) if r.percent + TOLERANCE + 1e-9 >= *want => {}
-            Some(r) => bad.push(format!("{key}: {:.1}% < README {:.1}% − {TOLERANCE:.0}", r.percent, want)),
+            Some(r) => {
+                bad.push(format!("{key}: {:.1}% < README {:.1}% − {TOLERANCE:.0}", r.percent, want))
+            }
             None => bad.push(format!("{key}: no such row in this run")),
         }
     }

@@ -1,9 +1,11 @@
 #!/usr/bin/env bash
 # The labelled accuracy benchmark (see DEVELOPERS.md, "Accuracy benchmark").
 #
-#   tests/accuracy/run.sh full  [harness options]   # both splits, all classes (the documented run)
-#   tests/accuracy/run.sh ci    [harness options]   # reduced test split, checked against README
-#   tests/accuracy/run.sh sweep [harness options]   # calibration sweep on the tuning split
+#   tests/accuracy/run.sh full [--write-readme] [harness options]   # both splits and the sweep
+#   tests/accuracy/run.sh ci   [harness options]                    # reduced test split, checked against README
+#
+# Harness options: --seed N, --sentences N (per split), --ci-sentences N, --no-sweep,
+# --config FILE (settings for the checked run), --write-readme (full run only).
 #
 # Installs the two Debian documentation packages the store is built from when they are
 # missing (apt-get; needs root, as CI has), copies their files into target/accuracy/store
@@ -15,9 +17,9 @@ cd "$(dirname "$0")/../.."
 mode=${1:-full}
 shift || true
 case "$mode" in
-  full | ci | sweep) ;;
+  full | ci) ;;
   *)
-    echo "usage: tests/accuracy/run.sh [full|ci|sweep] [harness options]" >&2
+    echo "usage: tests/accuracy/run.sh [full|ci] [harness options]" >&2
     exit 2
     ;;
 esac
@@ -56,6 +58,5 @@ find "$PG_DIR" -maxdepth 1 -name '*.html' -type f -exec cp -t "$store/pg/" {} +
     cp -L "$PY_DIR/$f" "$store/py/$f"
   done
 
-cargo build --release --locked --quiet --bin plumbline
 exec cargo bench --locked --quiet --bench accuracy -- \
   --mode "$mode" --store "$store" --work target/accuracy --packages "$versions" "$@"

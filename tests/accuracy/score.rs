@@ -81,23 +81,103 @@ pub struct Target {
 /// The targets, in report order (issue 5; `broken_citation` has none: it is reported).
 pub const TARGETS: &[Target] = &[
     Target { key: "verbatim", class: Class::Verbatim, rule: Rule::Supported, target: Some(97.0) },
-    Target { key: "light_edit", class: Class::LightEdit, rule: Rule::Supported, target: Some(97.0) },
-    Target { key: "figure_changed", class: Class::FigureChanged, rule: Rule::NumberMismatchNotSupported, target: Some(99.0) },
-    Target { key: "polarity_flipped", class: Class::PolarityFlipped, rule: Rule::NotSupported, target: Some(95.0) },
-    Target { key: "other_document", class: Class::OtherDocument, rule: Rule::NotSupported, target: Some(98.0) },
-    Target { key: "other_document.right_doc", class: Class::OtherDocument, rule: Rule::RightDocument, target: Some(90.0) },
-    Target { key: "fabricated", class: Class::Fabricated, rule: Rule::NotSupported, target: Some(90.0) },
+    Target {
+        key: "light_edit",
+        class: Class::LightEdit,
+        rule: Rule::Supported,
+        target: Some(97.0),
+    },
+    Target {
+        key: "figure_changed",
+        class: Class::FigureChanged,
+        rule: Rule::NumberMismatchNotSupported,
+        target: Some(99.0),
+    },
+    Target {
+        key: "polarity_flipped",
+        class: Class::PolarityFlipped,
+        rule: Rule::NotSupported,
+        target: Some(95.0),
+    },
+    Target {
+        key: "other_document",
+        class: Class::OtherDocument,
+        rule: Rule::NotSupported,
+        target: Some(98.0),
+    },
+    Target {
+        key: "other_document.right_doc",
+        class: Class::OtherDocument,
+        rule: Rule::RightDocument,
+        target: Some(90.0),
+    },
+    Target {
+        key: "fabricated",
+        class: Class::Fabricated,
+        rule: Rule::NotSupported,
+        target: Some(90.0),
+    },
     Target { key: "no_claim", class: Class::NoClaim, rule: Rule::NoClaim, target: Some(95.0) },
-    Target { key: "heavy_paraphrase", class: Class::HeavyParaphrase, rule: Rule::Supported, target: Some(85.0) },
-    Target { key: "opposite_swap", class: Class::OppositeSwap, rule: Rule::NotSupported, target: Some(90.0) },
-    Target { key: "opposite_swap.changed_term", class: Class::OppositeSwap, rule: Rule::ChangedTerm, target: Some(80.0) },
-    Target { key: "quantifier_swap", class: Class::QuantifierSwap, rule: Rule::NotSupported, target: Some(90.0) },
-    Target { key: "quantifier_swap.changed_term", class: Class::QuantifierSwap, rule: Rule::ChangedTerm, target: Some(80.0) },
-    Target { key: "identifier_swap", class: Class::IdentifierSwap, rule: Rule::NotSupported, target: Some(90.0) },
-    Target { key: "identifier_swap.changed_term", class: Class::IdentifierSwap, rule: Rule::ChangedTerm, target: Some(80.0) },
-    Target { key: "unit_changed", class: Class::UnitChanged, rule: Rule::NumberMismatch, target: Some(95.0) },
-    Target { key: "joined_clause", class: Class::JoinedClause, rule: Rule::NotSupported, target: Some(95.0) },
-    Target { key: "broken_citation", class: Class::BrokenCitation, rule: Rule::NotSupported, target: None },
+    Target {
+        key: "heavy_paraphrase",
+        class: Class::HeavyParaphrase,
+        rule: Rule::Supported,
+        target: Some(85.0),
+    },
+    Target {
+        key: "opposite_swap",
+        class: Class::OppositeSwap,
+        rule: Rule::NotSupported,
+        target: Some(90.0),
+    },
+    Target {
+        key: "opposite_swap.changed_term",
+        class: Class::OppositeSwap,
+        rule: Rule::ChangedTerm,
+        target: Some(80.0),
+    },
+    Target {
+        key: "quantifier_swap",
+        class: Class::QuantifierSwap,
+        rule: Rule::NotSupported,
+        target: Some(90.0),
+    },
+    Target {
+        key: "quantifier_swap.changed_term",
+        class: Class::QuantifierSwap,
+        rule: Rule::ChangedTerm,
+        target: Some(80.0),
+    },
+    Target {
+        key: "identifier_swap",
+        class: Class::IdentifierSwap,
+        rule: Rule::NotSupported,
+        target: Some(90.0),
+    },
+    Target {
+        key: "identifier_swap.changed_term",
+        class: Class::IdentifierSwap,
+        rule: Rule::ChangedTerm,
+        target: Some(80.0),
+    },
+    Target {
+        key: "unit_changed",
+        class: Class::UnitChanged,
+        rule: Rule::NumberMismatch,
+        target: Some(95.0),
+    },
+    Target {
+        key: "joined_clause",
+        class: Class::JoinedClause,
+        rule: Rule::NotSupported,
+        target: Some(95.0),
+    },
+    Target {
+        key: "broken_citation",
+        class: Class::BrokenCitation,
+        rule: Rule::NotSupported,
+        target: None,
+    },
 ];
 
 /// The key of the citation-status row.
@@ -199,7 +279,8 @@ pub struct Found<'a> {
 
 impl<'a> Found<'a> {
     pub fn new(reports: &'a [Report]) -> Found<'a> {
-        let by_id = reports.iter().flat_map(|r| r.answers.iter()).map(|a| (a.id.as_str(), a)).collect();
+        let by_id =
+            reports.iter().flat_map(|r| r.answers.iter()).map(|a| (a.id.as_str(), a)).collect();
         Found { by_id }
     }
 
@@ -225,7 +306,9 @@ impl<'a> Found<'a> {
 
 /// Whether the checker asks a reviewer to look at the sentence.
 pub fn flagged(s: Option<&Seen<'_>>) -> bool {
-    s.is_none_or(|s| matches!(s.verdict, Verdict::Partial | Verdict::Unsupported) || !s.flags.is_empty())
+    s.is_none_or(|s| {
+        matches!(s.verdict, Verdict::Partial | Verdict::Unsupported) || !s.flags.is_empty()
+    })
 }
 
 fn verdict_name(s: Option<&Seen<'_>>) -> &'static str {
@@ -292,7 +375,11 @@ pub fn score_with<'a>(
             unmatched += 1;
         }
         review.add(l.class.needs_review(), flagged(s));
-        *confusion.entry(l.class.name().into()).or_default().entry(verdict_name(s).into()).or_default() += 1;
+        *confusion
+            .entry(l.class.name().into())
+            .or_default()
+            .entry(verdict_name(s).into())
+            .or_default() += 1;
         let f = flags.entry(l.class.name().into()).or_default();
         for x in s.map(|s| s.flags.as_slice()).unwrap_or_default() {
             *f.entry(x.as_str().into()).or_default() += 1;
@@ -329,7 +416,11 @@ pub fn pct(a: usize, b: usize) -> f64 {
 pub fn table(s: &Scores) -> String {
     let mut o = String::new();
     let _ = writeln!(o, "{}: {} sentences in {} answers", s.name, s.sentences, s.answers);
-    let _ = writeln!(o, "  {:<30} {:<40} {:>6} {:>8} {:>7}  met", "target", "rule", "n", "share", "target");
+    let _ = writeln!(
+        o,
+        "  {:<30} {:<40} {:>6} {:>8} {:>7}  met",
+        "target", "rule", "n", "share", "target"
+    );
     for r in &s.rows {
         let _ = writeln!(
             o,
@@ -353,15 +444,21 @@ pub fn table(s: &Scores) -> String {
         b.precision, b.recall, b.f1, b.tp, b.fp, b.fn_, b.tn, s.false_alarm_percent
     );
     if s.unmatched > 0 {
-        let _ = writeln!(o, "  {} labelled sentences were not found as sentences of the findings", s.unmatched);
+        let _ = writeln!(
+            o,
+            "  {} labelled sentences were not found as sentences of the findings",
+            s.unmatched
+        );
     }
     let verdicts = ["supported", "partial", "unsupported", "no_claim", "missing"];
     let _ = writeln!(o, "  confusion (class × verdict):");
     let _ = writeln!(o, "    {:<18} {}", "class", verdicts.map(|v| format!("{v:>11}")).join(""));
     for c in Class::ALL {
         if let Some(m) = s.confusion.get(c.name()) {
-            let cells: String =
-                verdicts.iter().map(|v| format!("{:>11}", m.get(*v).copied().unwrap_or(0))).collect();
+            let cells: String = verdicts
+                .iter()
+                .map(|v| format!("{:>11}", m.get(*v).copied().unwrap_or(0)))
+                .collect();
             let _ = writeln!(o, "    {:<18} {cells}", c.name());
         }
     }

@@ -16,8 +16,12 @@
 //! the store search, is taken as recorded.
 //!
 //! The objective: the largest F1 of "needs review" on the tuning split, among the points
-//! whose false alarms (verbatim and light edits not supported) stay at or under 3 %;
-//! ties go to more targets met, then to the point nearest the defaults.
+//! whose false alarms (verbatim and light edits not supported) stay at or under the
+//! issue's 3 %; ties go to more targets met, then to the point nearest the defaults. Where
+//! no point of the grid reaches 3 % (the false alarms of paraphrases come mostly from the
+//! changed-term and polarity checks, which no threshold moves), the limit becomes the
+//! lowest false-alarm rate of the grid plus half a point, and the run says so: minimising
+//! false alarms alone would pick the lowest thresholds and let every joined clause pass.
 
 use std::path::Path;
 
@@ -44,6 +48,8 @@ pub const FUZZY: [f64; 3] = [0.80, 0.85, 0.90];
 pub const WINDOW: [usize; 4] = [1, 2, 3, 4];
 const DEFAULTS: (f64, f64, f64, usize) = (0.75, 0.45, 0.85, 3);
 const FALSE_ALARM_LIMIT: f64 = 3.0;
+/// Slack over the grid's lowest false-alarm rate when no point reaches the limit.
+const FALSE_ALARM_SLACK: f64 = 0.5;
 
 #[derive(Debug, Clone)]
 struct Point {
@@ -74,9 +80,10 @@ impl Point {
             + (self.window as f64 - DEFAULTS.3 as f64).abs() * 0.1
     }
 
-    /// Whether `self` is better than `other` under the objective.
-    fn better(&self, other: &Point) -> bool {
-        let ok = |p: &Point| p.scores.false_alarm_percent <= FALSE_ALARM_LIMIT + 1e-9;
+    /// Whether `self` is better than `other` under the objective, with false alarms
+    /// allowed up to `limit` percent.
+    fn better(&self, other: &Point, limit: f64) -> bool {
+        let ok = |p: &Point| p.scores.false_alarm_percent <= limit + 1e-9;
         match (ok(self), ok(other)) {
             (true, false) => return true,
             (false, true) => return false,
@@ -156,16 +163,23 @@ pub fn run(i: &Inputs<'_>) -> Result<Value, String> {
     let mut points: Vec<Point> = Vec::new();
     let mut consistency = json!(null);
     let mut runs = Vec::new();
-    println!("\nsweep on the tuning split ({} sentences): {} × {} scorer runs, {} threshold pairs each", labels.len(), FUZZY.len(), WINDOW.len(), grid().len());
+    println!(
+        "\nsweep on the tuning split ({} sentences): {} × {} scorer runs, {} threshold pairs each",
+        labels.len(),
+        FUZZY.len(),
+        WINDOW.len(),
+        grid().len()
+    );
     for &fuzzy in &FUZZY {
         for &window in &WINDOW {
             let cfg = i.work.join(format!("sweep-f{fuzzy:.2}-w{window}.toml"));
-            std::fs::write(&cfg, config_text(DEFAULTS.0, 0.0, fuzzy, window)).map_err(|e| format!("{}: {e}", cfg.display()))?;
+            std::fs::write(&cfg, config_text(DEFAULTS.0, 0.0, fuzzy, window))
+                .map_err(|e| format!("{}: {e}", cfg.display()))?;
             let out = i.work.join("sweep-findings.json");
-            let (report, secs) = crate::check(i.bin, i.store, i.tuning_answers, i.principals, Some(&cfg), &out)?;
+            let (report, secs) =
+                crate::check(i.bin, i.store, i.tuning_answers, i.principals, Some(&cfg), &out)?;
             let reports: Vec<Report> = vec![report];
             let found = Found::new(&reports);
-            let mut best: Option<Point> = None;
             for (sup, par) in grid() {
                 let scores = score::score_with(
                     "tuning",
@@ -174,25 +188,32 @@ pub fn run(i: &Inputs<'_>) -> Result<Value, String> {
                     &|l| found.sentence(l).map(|f| rederive(f, sup, par)),
                     &|_| None,
                 );
-                let met = scores.rows.iter().filter(|r| r.met == Some(true) && r.key != score::CITATIONS_KEY).count();
-                let p = Point { supported: sup, partial: par, fuzzy, window, scores, met };
-                if best.as_ref().is_none_or(|b| p.better(b)) {
-                    best = Some(p.clone());
-                }
-                points.push(p);
+                let met = scores
+                    .rows
+                    .iter()
+                    .filter(|r| r.met == Some(true) && r.key != score::CITATIONS_KEY)
+                    .count();
+                points.push(Point { supported: sup, partial: par, fuzzy, window, scores, met });
             }
             if (fuzzy - DEFAULTS.2).abs() < 1e-9 && window == DEFAULTS.3 {
                 let mut n = 0;
                 let mut differ = Vec::new();
                 for l in labels {
-                    let (Some(base), Some(real)) = (found.sentence(l), i.default_tuning.sentence(l)) else { continue };
+                    let (Some(base), Some(real)) =
+                        (found.sentence(l), i.default_tuning.sentence(l))
+                    else {
+                        continue;
+                    };
                     n += 1;
                     let d = rederive(base, DEFAULTS.0, DEFAULTS.1);
-                    let mut a: Vec<Flag> = d.flags.iter().copied().filter(|x| *x != Flag::Misattributed).collect();
-                    let mut b: Vec<Flag> = real.flags.iter().copied().filter(|x| *x != Flag::Misattributed).collect();
+                    let mut a: Vec<Flag> =
+                        d.flags.iter().copied().filter(|x| *x != Flag::Misattributed).collect();
+                    let mut b: Vec<Flag> =
+                        real.flags.iter().copied().filter(|x| *x != Flag::Misattributed).collect();
                     a.sort();
                     b.sort();
-                    if d.verdict != real.verdict || a != b || (base.score - real.score).abs() > 1e-9 {
+                    if d.verdict != real.verdict || a != b || (base.score - real.score).abs() > 1e-9
+                    {
                         differ.push(json!({"answer": l.answer, "position": l.position, "rederived": d.verdict.as_str(), "checker": real.verdict.as_str()}));
                     }
                 }
@@ -202,21 +223,56 @@ pub fn run(i: &Inputs<'_>) -> Result<Value, String> {
                 );
                 consistency = json!({"sentences": n, "differ": differ.len(), "examples": differ.iter().take(20).collect::<Vec<_>>()});
             }
+            println!("  fuzzy {fuzzy:.2} window {window}: run {secs:.1}s");
+        }
+    }
+    let lowest = points.iter().map(|p| p.scores.false_alarm_percent).fold(f64::INFINITY, f64::min);
+    let limit =
+        if lowest <= FALSE_ALARM_LIMIT { FALSE_ALARM_LIMIT } else { lowest + FALSE_ALARM_SLACK };
+    if limit > FALSE_ALARM_LIMIT {
+        println!(
+            "  no point reaches false alarms of {FALSE_ALARM_LIMIT}% (lowest {lowest:.2}%); the limit becomes {limit:.2}%"
+        );
+    }
+    let mut md = String::from(
+        "| fuzzy_threshold | window_sentences | best supported | best partial | review F1 | false alarms | targets met |\n|--:|--:|--:|--:|--:|--:|--:|\n",
+    );
+    for &fuzzy in &FUZZY {
+        for &window in &WINDOW {
+            let mut best: Option<&Point> = None;
+            for p in points.iter().filter(|p| (p.fuzzy - fuzzy).abs() < 1e-9 && p.window == window)
+            {
+                if best.is_none_or(|b| p.better(b, limit)) {
+                    best = Some(p);
+                }
+            }
             let b = best.expect("a grid point");
             println!(
-                "  fuzzy {fuzzy:.2} window {window}: run {secs:.1}s; best supported {:.2} partial {:.2}: F1 {:.3}, false alarms {:.1}%, {} targets met",
+                "  fuzzy {fuzzy:.2} window {window}: best supported {:.2} partial {:.2}: F1 {:.3}, false alarms {:.1}%, {} targets met",
                 b.supported, b.partial, b.scores.review.f1, b.scores.false_alarm_percent, b.met
             );
+            md.push_str(&format!(
+                "| {fuzzy:.2} | {window} | {:.2} | {:.2} | {:.3} | {:.1}% | {} |\n",
+                b.supported, b.partial, b.scores.review.f1, b.scores.false_alarm_percent, b.met
+            ));
             runs.push(b.json());
         }
     }
+    let md_path = i.work.join("sweep.md");
+    std::fs::write(&md_path, &md).map_err(|e| format!("{}: {e}", md_path.display()))?;
+    println!("  sweep table (Markdown) written to {}", md_path.display());
     let default_point = points
         .iter()
-        .find(|p| (p.supported - DEFAULTS.0).abs() < 1e-9 && (p.partial - DEFAULTS.1).abs() < 1e-9 && (p.fuzzy - DEFAULTS.2).abs() < 1e-9 && p.window == DEFAULTS.3)
+        .find(|p| {
+            (p.supported - DEFAULTS.0).abs() < 1e-9
+                && (p.partial - DEFAULTS.1).abs() < 1e-9
+                && (p.fuzzy - DEFAULTS.2).abs() < 1e-9
+                && p.window == DEFAULTS.3
+        })
         .cloned();
     let mut chosen = points[0].clone();
     for p in &points {
-        if p.better(&chosen) {
+        if p.better(&chosen, limit) {
             chosen = p.clone();
         }
     }
@@ -237,8 +293,11 @@ pub fn run(i: &Inputs<'_>) -> Result<Value, String> {
 
     // The chosen values on the test split, by a real run.
     let cfg = i.work.join("recommended.toml");
-    std::fs::write(&cfg, config_text(chosen.supported, chosen.partial, chosen.fuzzy, chosen.window))
-        .map_err(|e| format!("{}: {e}", cfg.display()))?;
+    std::fs::write(
+        &cfg,
+        config_text(chosen.supported, chosen.partial, chosen.fuzzy, chosen.window),
+    )
+    .map_err(|e| format!("{}: {e}", cfg.display()))?;
     let out = i.work.join("findings-test-recommended.json");
     let (report, _) = crate::check(i.bin, i.store, i.test_answers, i.principals, Some(&cfg), &out)?;
     let reports = vec![report];
@@ -247,7 +306,9 @@ pub fn run(i: &Inputs<'_>) -> Result<Value, String> {
     print!("\n{}", score::table(&test));
 
     Ok(json!({
-        "objective": format!("largest needs-review F1 on the tuning split with false alarms (verbatim + light edits not supported) at most {FALSE_ALARM_LIMIT}%; ties: more targets met, then nearest the defaults"),
+        "objective": format!("largest needs-review F1 on the tuning split with false alarms (verbatim + light edits not supported) at most {FALSE_ALARM_LIMIT}% (or, where no point reaches it, the grid's lowest rate + {FALSE_ALARM_SLACK}); ties: more targets met, then nearest the defaults"),
+        "false_alarm_limit_used": limit,
+        "lowest_false_alarm": lowest,
         "fuzzy_threshold": FUZZY,
         "window_sentences": WINDOW,
         "threshold_pairs": grid().len(),
