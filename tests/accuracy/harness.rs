@@ -129,7 +129,8 @@ fn main() -> ExitCode {
 /// The whole benchmark; `Ok(false)` when the CI check fails.
 fn run(args: &Args) -> Result<bool, String> {
     let started = Instant::now();
-    let bad = edits::self_test();
+    let mut bad = edits::self_test();
+    bad.extend(readme::self_test());
     if !bad.is_empty() {
         return Err(format!(
             "the generator's edit rules fail their self-test:\n  {}",
@@ -301,6 +302,13 @@ fn run(args: &Args) -> Result<bool, String> {
         let text = std::fs::read_to_string(&args.readme)
             .map_err(|e| format!("{}: {e}", args.readme.display()))?;
         let want = readme::ci_figures(&text)?;
+        for p in args.packages.split(',') {
+            if !text.contains(p) {
+                println!(
+                    "note: README's figures were measured with other package versions than {p}"
+                );
+            }
+        }
         let bad = readme::regressions(&want, &ci_scores);
         if bad.is_empty() {
             println!(

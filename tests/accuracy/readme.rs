@@ -129,3 +129,60 @@ pub fn regressions(readme: &BTreeMap<String, f64>, ci: &Scores) -> Vec<String> {
     }
     bad
 }
+
+/// Checks the block's round trip and the regression rule on a made-up table; returns
+/// the failures (a CI check that could not fail would be worth nothing).
+pub fn self_test() -> Vec<String> {
+    use crate::score::Row;
+    let mut bad = Vec::new();
+    let row = |key: &str, percent: f64| Row {
+        key: key.into(),
+        rule: "r".into(),
+        n: 100,
+        correct: percent as usize,
+        percent,
+        target: Some(90.0),
+        met: Some(percent >= 90.0),
+    };
+    let scores = |a: f64, b: f64| Scores {
+        name: "t".into(),
+        answers: 1,
+        sentences: 200,
+        unmatched: 0,
+        rows: vec![row("alpha", a), row("beta.flag", b)],
+        review: Default::default(),
+        false_alarm_percent: 0.0,
+        confusion: BTreeMap::new(),
+        flags: BTreeMap::new(),
+        citations: BTreeMap::new(),
+        by_kind: BTreeMap::new(),
+    };
+    let info = RunInfo {
+        date: "2000-01-01".into(),
+        commit: "c".into(),
+        command: "x".into(),
+        packages: "p".into(),
+        seed: 1,
+        documents: 2,
+        seconds: 3.0,
+    };
+    let text = replace_block("# T\n", &block(&info, &scores(95.0, 80.0), &scores(96.0, 81.5)));
+    match ci_figures(&text) {
+        Ok(f) => {
+            if f.get("alpha") != Some(&96.0) || f.get("beta.flag") != Some(&81.5) {
+                bad.push(format!("README block read back wrong: {f:?}"));
+            }
+            if !regressions(&f, &scores(94.0, 79.5)).is_empty() {
+                bad.push("a fall of 2 points or less must pass".into());
+            }
+            if regressions(&f, &scores(93.9, 81.5)).len() != 1 {
+                bad.push("a fall of more than 2 points must fail".into());
+            }
+        }
+        Err(e) => bad.push(e),
+    }
+    if ci_figures("no block here").is_ok() {
+        bad.push("a README without the block must be an error".into());
+    }
+    bad
+}

@@ -245,6 +245,8 @@ pub struct Scores {
     pub confusion: BTreeMap<String, BTreeMap<String, usize>>,
     pub flags: BTreeMap<String, BTreeMap<String, usize>>,
     pub citations: BTreeMap<String, BTreeMap<String, usize>>,
+    /// Per class and edit kind: sentences, and how many meet the class's first rule.
+    pub by_kind: BTreeMap<String, BTreeMap<String, (usize, usize)>>,
 }
 
 impl Scores {
@@ -369,6 +371,7 @@ pub fn score_with<'a>(
     let mut flags: BTreeMap<String, BTreeMap<String, usize>> = BTreeMap::new();
     let mut unmatched = 0;
     let (mut fa, mut fa_n) = (0, 0);
+    let mut by_kind: BTreeMap<String, BTreeMap<String, (usize, usize)>> = BTreeMap::new();
     for (l, s) in labels.iter().zip(&seen_all) {
         let s = s.as_ref();
         if s.is_none() {
@@ -383,6 +386,18 @@ pub fn score_with<'a>(
         let f = flags.entry(l.class.name().into()).or_default();
         for x in s.map(|s| s.flags.as_slice()).unwrap_or_default() {
             *f.entry(x.as_str().into()).or_default() += 1;
+        }
+        if let Some(t) = TARGETS.iter().find(|t| t.class == l.class) {
+            let kind = if l.detail.contains("also occurs in the cited passage") {
+                format!("{} (value in passage)", l.kind)
+            } else {
+                l.kind.clone()
+            };
+            let e = by_kind.entry(l.class.name().into()).or_default().entry(kind).or_default();
+            e.0 += 1;
+            if t.rule.holds(l, s) {
+                e.1 += 1;
+            }
         }
         if matches!(l.class, Class::Verbatim | Class::LightEdit) {
             fa_n += 1;
@@ -405,6 +420,7 @@ pub fn score_with<'a>(
         confusion,
         flags,
         citations,
+        by_kind,
     }
 }
 
@@ -460,6 +476,13 @@ pub fn table(s: &Scores) -> String {
                 .map(|v| format!("{:>11}", m.get(*v).copied().unwrap_or(0)))
                 .collect();
             let _ = writeln!(o, "    {:<18} {cells}", c.name());
+        }
+    }
+    let _ = writeln!(o, "  by edit kind (meeting the class's first rule / sentences):");
+    for c in Class::ALL {
+        if let Some(m) = s.by_kind.get(c.name()).filter(|m| m.len() > 1) {
+            let cells: Vec<String> = m.iter().map(|(k, (n, ok))| format!("{k} {ok}/{n}")).collect();
+            let _ = writeln!(o, "    {:<18} {}", c.name(), cells.join(", "));
         }
     }
     let _ = writeln!(o, "  citation statuses (expected → found):");
