@@ -1622,47 +1622,70 @@ pub fn join_clause(a: &str, c: &str) -> Option<Edit> {
     })
 }
 
-/// Things an assistant says that make no claim about the documents.
-pub const CHATTER: &[&str] = &[
-    "Hope this helps!",
-    "Happy to help.",
-    "Thanks for the question.",
-    "Good question.",
-    "Let me know if anything is unclear.",
-    "Is there anything else you would like to know?",
-    "Would you like an example?",
-    "Do you want me to go into more detail?",
-    "Hello!",
-    "Hi there.",
-    "Sure, here is what I found.",
-    "Here is a short summary.",
-    "I hope that answers your question.",
-    "Feel free to ask a follow-up question.",
-    "Please let me know if you need more help.",
-    "Glad I could help.",
-    "You're welcome.",
-    "Certainly.",
-    "Of course!",
-    "Great question!",
-    "Does that help?",
-    "Anything else I can do for you?",
-    "Thank you for asking.",
-    "Good luck!",
-    "Have a nice day.",
-    "Let me explain.",
-    "Here is the relevant part of the documentation.",
-    "I looked this up for you.",
-    "Shall I look up the related settings too?",
-    "Any other questions?",
-    "Cheers!",
-    "Let's take a look.",
-    "Here's what the documentation says.",
-    "Good morning!",
-    "Sure thing.",
+/// Things an assistant says that make no claim about the documents, by family, as
+/// patterns: `{a|b}` stands for either. [`chatter`] expands them.
+const CHATTER_PATTERNS: &[&str] = &[
+    // greetings
+    "{Hi|Hello|Hey}{!|.}",
+    "{Hi|Hello} there{!|.}",
+    "Good {morning|afternoon|evening}{!|.}",
+    // thanks and praise
+    "Thanks for {asking|the question|reaching out|your patience}{!|.}",
+    "Thank you for {asking|the question|your patience}.",
+    "{Good|Great|Excellent|Interesting|Fair} question{!|.}",
     "Thanks, that is a common point of confusion.",
-    "I can walk you through it step by step if you like.",
-    "Want me to check the other pages as well?",
+    // offers of help
+    "Let me know if {you need anything else|anything is unclear|you have more questions|I can help further}.",
+    "Please let me know if you need more help.",
+    "Feel free to {ask|get back to me} if {something is unclear|you need more}.",
+    "Happy to {help|dig deeper} if {you need more|anything is unclear}.",
+    "I can {walk you through it|go into more detail|show you an example} if you {like|want}.",
+    // questions back
+    "Does that {help|answer your question|make sense}?",
+    "Would you like {an example|more detail|a summary of the related pages}?",
+    "Shall I {look up|check} {the related settings|the other pages|more examples} too?",
+    "{Anything|Is there anything} else I can help with?",
+    "Do you want me to {check|look up} {more|the details}?",
+    "Any other questions?",
+    // sign-offs
+    "Hope {this|that} helps{!|.}",
+    "I hope that answers your question.",
+    "Good luck{!|.}",
+    "Have a {nice|good|great} day{!|.}",
+    "{Cheers|Take care}!",
+    "All the best.",
+    // transitions
+    "{Sure|Of course|Certainly|Absolutely}{!|.}",
+    "Sure thing.",
+    "Let me explain.",
+    "Let's take a look.",
+    "Here is {a short summary|what I found|the short version}.",
+    "Here's what the {documentation|manual} says.",
+    "I looked this up for you.",
+    "Sure, here is {what I found|the answer}.",
+    "{Okay|OK|Alright}, here goes.",
+    // acknowledgements
+    "{You're welcome|No problem|My pleasure}{!|.}",
+    "{Glad|Happy} I could help.",
+    "Happy to help.",
 ];
+
+/// Every chatter sentence the patterns give, sorted.
+pub fn chatter() -> Vec<String> {
+    fn expand(p: &str) -> Vec<String> {
+        let Some(a) = p.find('{') else { return vec![p.to_owned()] };
+        let b = a + p[a..].find('}').expect("closed brace");
+        let rest = expand(&p[b + 1..]);
+        p[a + 1..b]
+            .split('|')
+            .flat_map(|alt| rest.iter().map(move |r| format!("{}{alt}{r}", &p[..a])))
+            .collect()
+    }
+    let mut v: Vec<String> = CHATTER_PATTERNS.iter().flat_map(|p| expand(p)).collect();
+    v.sort();
+    v.dedup();
+    v
+}
 
 // ---------------------------------------------------------------------------------------
 // Self-test: fixed cases, run by `--self-test` before every benchmark run.

@@ -365,6 +365,10 @@ pub struct Generator<'a> {
     pub admissible: &'a Admissible,
     pub seed: u64,
     pools: HashMap<Split, Vec<usize>>,
+    /// Chatter sentences of each split: each sentence the patterns give belongs to one
+    /// split (by a hash), so that a checker tuned on the tuning split's chatter meets
+    /// other wordings on the test split.
+    chatter: HashMap<Split, Vec<String>>,
 }
 
 /// One citation of an answer under construction.
@@ -380,7 +384,13 @@ impl<'a> Generator<'a> {
     pub fn new(corpus: &'a Corpus, admissible: &'a Admissible, seed: u64) -> Generator<'a> {
         let pools =
             [Split::Tuning, Split::Test].into_iter().map(|s| (s, corpus.pool(s, 2))).collect();
-        Generator { corpus, admissible, seed, pools }
+        let mut chatter: HashMap<Split, Vec<String>> = HashMap::new();
+        for line in edits::chatter() {
+            let split =
+                if crate::rng::hash_str(&line) % 2 == 0 { Split::Tuning } else { Split::Test };
+            chatter.entry(split).or_default().push(line);
+        }
+        Generator { corpus, admissible, seed, pools, chatter }
     }
 
     /// Answers of `split` until at least `sentences` labelled sentences (or `answers`
@@ -465,7 +475,7 @@ impl<'a> Generator<'a> {
         let chatter = |rng: &mut Rng| Draft {
             class: Class::NoClaim,
             edit: Edit {
-                text: edits::CHATTER[rng.below(edits::CHATTER.len())].to_owned(),
+                text: self.chatter[&split][rng.below(self.chatter[&split].len())].clone(),
                 detail: String::new(),
                 kind: "chatter".into(),
             },
