@@ -37,7 +37,7 @@ use crate::findings::{
 use crate::metrics::{bleu, rouge};
 use crate::store::Store;
 use crate::store::index::{DocSentences, Hit, Index, content_terms};
-use crate::support::{self, Claim, Params, Scorer, Shortlist, Unit, WindowMatch};
+use crate::support::{self, Claim, Params, Scorer, Shortlist, TokenCache, Unit, WindowMatch};
 use crate::text::sentences;
 use crate::text::tokens::unicode_words;
 
@@ -83,7 +83,7 @@ pub struct Checked {
 pub fn severity_of(kind: &str) -> Severity {
     match kind {
         "stale" | "access_unknown" | "principal_unknown" | "unused" | "unknown_ref" | "uncited"
-        | "partial" => Severity::Warning,
+        | "partial" | "below_approved_rouge_l" | "below_approved_bleu" => Severity::Warning,
         _ => Severity::Error,
     }
 }
@@ -201,6 +201,95 @@ fn evidence(ctx: &Context<'_>, loc: &Located, redact: bool) -> Evidence {
     }
 }
 
+/// How much better than the best single window a joint window must score.
+const JOINT_GAIN: f64 = 0.05;
+
+/// The best window of each of a sentence's cited passages, joined two at a time: when a
+/// sentence cites several passages and takes a part from each, no single window carries
+/// it. Returns the two parts (citation index and window, the first holding the joint
+/// match and score) of the best joint window that spans both passages.
+fn joint_support<'a>(
+    ctx: &Context<'a>,
+    scorer: &Scorer<'_>,
+    candidates: &[usize],
+    unit_cache: &HashMap<usize, Vec<Unit<'a>>>,
+    resolved: &[Resolved<'_>],
+    p: &Params,
+    cache: &mut TokenCache,
+) -> Option<((usize, Located), (usize, Located))> {
+    let parts: Vec<(usize, Located)> = candidates
+        .iter()
+        .filter_map(|&ci| {
+            let doc = resolved[ci].doc?;
+            let units = unit_cache.get(&ci)?;
+            let mut list = Shortlist::default();
+            scorer.windows(ci, units, p, &mut list);
+            let text = ctx.store.documents[doc].visible_text();
+            let (_, m) = scorer.best(list, |_| (units.as_slice(), text), &mut *cache)?;
+            (m.coverage > 0.0).then(|| (ci, locate(doc, units, m)))
+        })
+        .collect();
+    type Joint = (f64, usize, usize, WindowMatch, usize);
+    let mut best: Option<Joint> = None;
+    for (x, (_, lx)) in parts.iter().enumerate() {
+        for (y, (_, ly)) in parts.iter().enumerate() {
+            if x == y || (parts[x].1.doc == parts[y].1.doc && lx.visible == ly.visible) {
+                continue;
+            }
+            let tx = &ctx.store.documents[lx.doc].visible_text()[lx.visible.clone()];
+            let ty = &ctx.store.documents[ly.doc].visible_text()[ly.visible.clone()];
+            let joint = format!("{tx}\n\n{ty}");
+            let mut ranges = sentences::split(tx);
+            ranges.extend(
+                sentences::split(ty)
+                    .into_iter()
+                    .map(|r| r.start + tx.len() + 2..r.end + tx.len() + 2),
+            );
+            let units = support::units(&joint, &ranges);
+            let mut list = Shortlist::default();
+            scorer.whole(0, &units, &mut list);
+            // A fresh cache: the joint text is temporary, and its address may be reused.
+            let mut own = TokenCache::new();
+            let best_joint = scorer.best(list, |_| (units.as_slice(), joint.as_str()), &mut own);
+            let Some((_, m)) = best_joint else {
+                continue;
+            };
+            // Both parts must add words of the claim that the other lacks.
+            let score_alone = lx.m.score.max(ly.m.score);
+            if m.score > score_alone && best.as_ref().is_none_or(|b| m.score > b.0 + 1e-9) {
+                best = Some((m.score, x, y, m, tx.len()));
+            }
+        }
+    }
+    let (_, x, y, m, split_at) = best?;
+    let (cx, lx) = &parts[x];
+    let (cy, ly) = &parts[y];
+    // Joint match ranges back onto each document's visible text.
+    let in_x: Vec<Range<usize>> = m
+        .matched
+        .iter()
+        .filter(|r| r.end <= split_at)
+        .map(|r| r.start + lx.visible.start..r.end + lx.visible.start)
+        .collect();
+    let in_y: Vec<Range<usize>> = m
+        .matched
+        .iter()
+        .filter(|r| r.start >= split_at + 2)
+        .map(|r| r.start - split_at - 2 + ly.visible.start..r.end - split_at - 2 + ly.visible.start)
+        .collect();
+    let first = Located {
+        doc: lx.doc,
+        m: WindowMatch { matched: in_x, ..m.clone() },
+        visible: lx.visible.clone(),
+    };
+    let second = Located {
+        doc: ly.doc,
+        m: WindowMatch { matched: in_y, score: m.score, ..ly.m.clone() },
+        visible: ly.visible.clone(),
+    };
+    Some(((*cx, first), (*cy, second)))
+}
+
 /// One sentence of the answer before scoring.
 struct Piece {
     span: Range<usize>,
@@ -252,17 +341,24 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
     let resolved: Vec<Resolved<'_>> =
         answer.citations.iter().map(|c| resolve(ctx.store, c, groups)).collect();
     let mut unit_cache: HashMap<usize, Vec<Unit>> = HashMap::new();
+    // Tokens of passage sentences, shared by the answer's claims (texts outlive it).
+    let mut tok_cache = TokenCache::new();
     let mut used_by: Vec<Vec<usize>> = vec![Vec::new(); resolved.len()];
     let mut sentences_out = Vec::with_capacity(pieces.len());
 
     for (index, piece) in pieces.iter().enumerate() {
         let claim: Claim = support::claim(&piece.text);
-        let candidates: Vec<usize> = if uses_markers {
+        // A sentence is checked against the citations its markers name; one with no
+        // marker at all (flagged `uncited` when others have markers) against every
+        // citation of the answer, since it may well restate one of them.
+        let candidates: Vec<usize> = if uses_markers && !piece.refs.is_empty() {
             piece.refs.iter().filter_map(|r| known.iter().position(|k| k == r)).collect()
+        } else if uses_markers && !piece.unknown.is_empty() {
+            Vec::new()
         } else {
             (0..resolved.len()).collect()
         };
-        let scorer = Scorer::new(&claim);
+        let scorer = Scorer::new(&claim, &p);
         // Best window over the cited passages.
         for &ci in &candidates {
             if let (Some(doc), Some(passage)) = (resolved[ci].doc, resolved[ci].passage.as_ref()) {
@@ -278,15 +374,39 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
         let text_of =
             |doc: Option<usize>| doc.map_or("", |d| ctx.store.documents[d].visible_text());
         let best: Option<(usize, Located)> = scorer
-            .best(list, |ci| (unit_cache[&ci].as_slice(), text_of(resolved[ci].doc)), &p)
+            .best(
+                list,
+                |ci| (unit_cache[&ci].as_slice(), text_of(resolved[ci].doc)),
+                &mut tok_cache,
+            )
             .and_then(|(ci, m)| {
                 let doc = resolved[ci].doc?;
                 Some((ci, locate(doc, &unit_cache[&ci], m)))
             });
-        let assessment = support::assess(&claim, best.as_ref().map(|(_, l)| &l.m), &p);
-        if let Some((ci, loc)) = &best {
-            if !claim.no_claim && loc.m.score >= p.partial {
-                used_by[*ci].push(index);
+        let mut best = best;
+        let mut assessment = support::assess(&claim, best.as_ref().map(|(_, l)| &l.m), &p);
+        // A sentence that cites several passages may take a part from each ("[1, 2]").
+        let mut joined: Option<(usize, Located)> = None;
+        let incomplete = best.as_ref().is_none_or(|(_, l)| l.m.unmatched_run > 0);
+        if !claim.no_claim
+            && candidates.len() > 1
+            && (assessment.verdict != Verdict::Supported || incomplete)
+        {
+            let single = best.as_ref().map_or(0.0, |(_, l)| l.m.score);
+            if let Some((first, second)) =
+                joint_support(ctx, &scorer, &candidates, &unit_cache, &resolved, &p, &mut tok_cache)
+                    .filter(|(f, _)| f.1.m.score >= single + JOINT_GAIN)
+            {
+                assessment = support::assess(&claim, Some(&first.1.m), &p);
+                best = Some(first);
+                joined = Some(second);
+            }
+        }
+        if !claim.no_claim {
+            for (ci, loc) in best.iter().chain(joined.iter()) {
+                if loc.m.score >= p.partial && !used_by[*ci].contains(&index) {
+                    used_by[*ci].push(index);
+                }
             }
         }
         let mut flags = Vec::new();
@@ -308,6 +428,8 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
         let redact_cited =
             |ci: usize| ctx.redact_restricted && resolved[ci].entitlement != Entitlement::Allowed;
         let mut ev = best.as_ref().map(|(ci, loc)| evidence(ctx, loc, redact_cited(*ci)));
+        let also_ev: Vec<Evidence> =
+            joined.iter().map(|(ci, loc)| evidence(ctx, loc, redact_cited(*ci))).collect();
         let mut cited_ev = None;
 
         // Search the whole store for sentences the citations do not carry.
@@ -331,7 +453,7 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
                 let list = if ent == Entitlement::Forbidden { &mut closed } else { &mut open };
                 scorer.windows(k, units, &p, list);
             }
-            let pick = |list: Shortlist| {
+            let mut pick = |list: Shortlist| {
                 scorer
                     .best(
                         list,
@@ -339,7 +461,7 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
                             let (doc, units) = &passages[k];
                             (units.as_slice(), ctx.store.documents[*doc].visible_text())
                         },
-                        &p,
+                        &mut tok_cache,
                     )
                     .map(|(k, m)| locate(passages[k].0, &passages[k].1, m))
             };
@@ -375,6 +497,7 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
             score: round6(assessment.score),
             flags,
             evidence: ev,
+            also_evidence: also_ev,
             cited_evidence: cited_ev,
             figures: best
                 .as_ref()
@@ -398,14 +521,18 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
         .map(|((c, r), used)| {
             let mut status = r.status;
             let mut detail = r.detail.clone();
-            if status == CitationStatus::Ok && used.is_empty() {
+            // A citation that a marker names is `ok` even when its sentence is not
+            // supported: the sentence's verdict carries that problem. `unused` is for a
+            // citation nothing ties to the answer: no marker names it (or the answer has
+            // no markers) and no sentence is supported by it.
+            let named = uses_markers && pieces.iter().any(|p| p.refs.contains(&c.r#ref));
+            if status == CitationStatus::Ok && used.is_empty() && !named {
                 status = CitationStatus::Unused;
-                detail =
-                    Some(if uses_markers && !pieces.iter().any(|p| p.refs.contains(&c.r#ref)) {
-                        "no marker in the answer names it".into()
-                    } else {
-                        "no sentence of the answer is supported by it".into()
-                    });
+                detail = Some(if uses_markers {
+                    "no marker in the answer names it, and no sentence is supported by it".into()
+                } else {
+                    "no sentence of the answer is supported by it".into()
+                });
             }
             CitationFindings {
                 r#ref: c.r#ref.clone(),
@@ -526,6 +653,34 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
             }
         }
     }
+    // An `unsupported` verdict that only a figure or polarity check caused (the words
+    // score at least partial support) follows that finding: a reviewer who accepts the
+    // cause accepts its consequence too.
+    for s in &sentences_out {
+        if s.verdict != Verdict::Unsupported || s.score < p.partial {
+            continue;
+        }
+        let cause = findings.iter().find(|f| {
+            f.sentence == Some(s.index)
+                && matches!(f.kind.as_str(), "number_mismatch" | "negation_mismatch")
+                && f.accepted.is_some()
+        });
+        let open_cause = findings.iter().any(|f| {
+            f.sentence == Some(s.index)
+                && matches!(f.kind.as_str(), "number_mismatch" | "negation_mismatch")
+                && f.accepted.is_none()
+        });
+        let Some(cause) = cause.filter(|_| !open_cause) else { continue };
+        let waiver = cause.accepted.clone().map(|a| Acceptance {
+            by: a.by,
+            note: format!("follows from the accepted {}: {}", cause.kind, a.note),
+        });
+        if let Some(f) = findings.iter_mut().find(|f| {
+            f.sentence == Some(s.index) && f.kind == "unsupported" && f.accepted.is_none()
+        }) {
+            f.accepted = waiver;
+        }
+    }
     let gate = &ctx.config.gate;
     let open_unsupported =
         findings.iter().filter(|f| f.kind == "unsupported" && f.accepted.is_none()).count();
@@ -546,6 +701,15 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
             bleu: round6(bleu::sentence_bleu(&text, &[approved]).score),
         }
     });
+    // Approved-answer regression: its findings, their waivers and their gate.
+    let passed = crate::regression::apply(
+        ctx.config,
+        ctx.decisions,
+        &answer.id,
+        approved.as_ref(),
+        &mut findings,
+        &mut used_decisions,
+    ) && passed;
 
     Checked {
         findings: AnswerFindings {

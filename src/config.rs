@@ -29,7 +29,16 @@
 //! window_sentences      = 3
 //! misattribution_margin = 0.15
 //! restricted_match      = 0.75
+//!
+//! [regression]            # approved-answer regression: each check is off until set
+//! # min_rouge_l = 0.40    # ROUGE-L F against approved_answer, 0..1
+//! # min_bleu    = 20      # sentence BLEU against approved_answer, 0..100
 //! ```
+//!
+//! Where `[regression] min_rouge_l` or `min_bleu` is set, an answer whose agreement with
+//! its `approved_answer` falls below it gets a `below_approved_rouge_l` or
+//! `below_approved_bleu` finding (a warning); list the kind in `gate.fail_on` to fail the
+//! gate on it (see [`crate::regression`]).
 
 use std::fmt;
 use std::ops::Range;
@@ -54,6 +63,9 @@ pub const FINDING_KINDS: &[&str] = &[
     "access_unknown",
     "principal_unknown",
     "unused",
+    // Approved-answer regression (only with [regression] thresholds set).
+    "below_approved_rouge_l",
+    "below_approved_bleu",
     // Sentence flags.
     "unknown_ref",
     "number_mismatch",
@@ -85,6 +97,22 @@ pub struct Config {
     pub limits: Limits,
     /// Parameters of the support scorer.
     pub support: SupportSettings,
+    /// Approved-answer regression thresholds.
+    pub regression: RegressionSettings,
+}
+
+/// `[regression]`: the least agreement an answer must keep with its `approved_answer`.
+/// Each check is off until its threshold is set (there is no default a reviewer could
+/// rely on: what agreement is enough depends on how the approved answers were written).
+#[derive(Debug, Clone, Copy, PartialEq, Default, Serialize, Deserialize)]
+#[serde(default, deny_unknown_fields)]
+pub struct RegressionSettings {
+    /// Lowest ROUGE-L F (0..1) against the approved answer.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub min_rouge_l: Option<f64>,
+    /// Lowest sentence BLEU (0..100) against the approved answer.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub min_bleu: Option<f64>,
 }
 
 /// `[thresholds]`: a sentence scoring at or above `supported` is supported; at or above
@@ -376,6 +404,30 @@ impl Config {
         if s.window_sentences == 0 {
             return bad("support.window_sentences", "must be at least 1".into());
         }
+        let r = &self.regression;
+        if let Some(v) = r.min_rouge_l {
+            fraction("regression.min_rouge_l", v)?;
+        }
+        if let Some(v) = r.min_bleu {
+            if !(0.0..=100.0).contains(&v) {
+                return bad("regression.min_bleu", format!("must be between 0 and 100, found {v}"));
+            }
+        }
+        // A gate rule on a check that is off could never fire: say so rather than let the
+        // gate quietly pass.
+        for (i, kind) in self.gate.fail_on.iter().enumerate() {
+            let (needs, set) = match kind.as_str() {
+                "below_approved_rouge_l" => ("regression.min_rouge_l", r.min_rouge_l.is_some()),
+                "below_approved_bleu" => ("regression.min_bleu", r.min_bleu.is_some()),
+                _ => continue,
+            };
+            if !set {
+                return bad(
+                    &format!("gate.fail_on[{i}]"),
+                    format!("lists {kind}, but {needs} is not set, so it can never fire"),
+                );
+            }
+        }
         Ok(())
     }
 }
@@ -528,6 +580,33 @@ allow_rejected_lines = false
         kinds.dedup();
         assert_eq!(kinds.len(), FINDING_KINDS.len());
         assert!(!is_finding_kind("ok"));
+    }
+
+    #[test]
+    fn regression_thresholds_are_off_by_default_and_checked() {
+        assert_eq!(Config::default().regression, RegressionSettings::default());
+        assert_eq!(Config::default().regression.min_rouge_l, None);
+        let c = parse(
+            "[regression]\nmin_rouge_l = 0.4\nmin_bleu = 20\n[gate]\nfail_on = [\"below_approved_bleu\"]\n",
+        )
+        .unwrap();
+        assert_eq!(c.regression.min_rouge_l, Some(0.4));
+        assert_eq!(c.regression.min_bleu, Some(20.0));
+        let e = error("[regression]\nmin_rouge_l = 1.5\n");
+        assert!(
+            e.starts_with("plumbline.toml:2:1: regression.min_rouge_l: must be between 0 and 1"),
+            "{e}"
+        );
+        let e = error("[regression]\nmin_bleu = 101\n");
+        assert!(e.contains("regression.min_bleu: must be between 0 and 100"), "{e}");
+        let e = error("[gate]\nfail_on = [\"dead\", \"below_approved_rouge_l\"]\n");
+        assert!(
+            e.contains("gate.fail_on[1]: lists below_approved_rouge_l, but regression.min_rouge_l is not set"),
+            "{e}"
+        );
+        // Unset thresholds leave no trace in the recorded settings.
+        let v = serde_json::to_value(Config::default()).unwrap();
+        assert_eq!(v["regression"], serde_json::json!({}));
     }
 
     #[test]

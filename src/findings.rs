@@ -13,6 +13,9 @@
 //!   "tool":   {"name": "plumbline", "version": "0.1.0"},
 //!   "generated_at": "2026-12-01T10:00:00Z",
 //!   "command": ["plumbline", "check", ...],
+//!   "shard"?: {"k", "n", "hash"},                 (check --shard K/N only)
+//!   "merged_from"?: [{"path", "sha256", "generated_at", "shard"?}],   (merge only)
+//!   "redact_restricted"?: true,                   (--redact-restricted only)
 //!   "inputs": {"answers": {"path", "size", "sha256"}, "principals"?, "config"?, "accept"?,
 //!              "store": {"path", "documents", "digest", "problems": [{"path","field"?,"message"}]}},
 //!   "config": { effective settings, see config.rs },
@@ -40,6 +43,20 @@
 //!
 //! `Finding`: `{kind, sentence?, ref?, severity, message, gate, accepted?}` where `gate`
 //! says whether it fails the gate under the effective config.
+//!
+//! `Summary`: counts (`lines_read`, `answers_checked`, `lines_rejected`, `answers_passed`,
+//! `answers_failed`, `verdicts`, `flags`, `citations`, `errors`, `warnings`, `accepted`,
+//! `gate_failures`, `entitlement_breaches`), `gate` (`{passed, reasons}`), and where any
+//! answer has an approved answer `approved_mean_rouge_l`, `approved_mean_bleu` and `approved`
+//! (`{answers, mean_rouge1, mean_rouge2, mean_rougeL, mean_bleu}` and, for each of
+//! `regression.min_rouge_l` / `min_bleu` that is set, the threshold, the count below it
+//! and its share: `min_rouge_l`, `below_rouge_l`, `share_below_rouge_l`, `min_bleu`,
+//! `below_bleu`, `share_below_bleu`).
+//!
+//! A document made by `check --shard K/N` covers only that shard's answers (and, for
+//! shard 1, every rejected line); `plumbline merge` joins such documents into one whose
+//! every field but the run record (`generated_at`, `command`, `shard`, `merged_from`)
+//! equals that of the unsharded run.
 
 use std::collections::BTreeMap;
 
@@ -243,6 +260,11 @@ pub struct SentenceFindings {
     pub flags: Vec<Flag>,
     /// Best supporting window, or null.
     pub evidence: Option<Evidence>,
+    /// When the sentence cites several passages and takes a part from each, the windows
+    /// of the other passages that carry the rest (`evidence` holds the first part and
+    /// the score of the parts together).
+    #[serde(skip_serializing_if = "Vec::is_empty", default)]
+    pub also_evidence: Vec<Evidence>,
     /// The best window among the cited passages, when `evidence` names another document.
     #[serde(skip_serializing_if = "Option::is_none", default)]
     pub cited_evidence: Option<Evidence>,
@@ -449,8 +471,71 @@ pub struct Summary {
     /// Mean BLEU against approved answers, where given.
     #[serde(skip_serializing_if = "Option::is_none", default)]
     pub approved_mean_bleu: Option<f64>,
+    /// Agreement with the approved answers, where any answer has one
+    /// ([`crate::regression`]).
+    #[serde(skip_serializing_if = "Option::is_none", default)]
+    pub approved: Option<ApprovedSummary>,
     /// The gate's decision.
     pub gate: GateResult,
+}
+
+/// Agreement of the answers with their approved answers, over the answers that have one.
+#[derive(Debug, Clone, PartialEq, Default, Serialize, Deserialize)]
+pub struct ApprovedSummary {
+    /// Answers with an `approved_answer`.
+    pub answers: usize,
+    /// Mean ROUGE-1 F.
+    pub mean_rouge1: f64,
+    /// Mean ROUGE-2 F.
+    pub mean_rouge2: f64,
+    /// Mean ROUGE-L F.
+    #[serde(rename = "mean_rougeL")]
+    pub mean_rouge_l: f64,
+    /// Mean sentence BLEU, 0–100.
+    pub mean_bleu: f64,
+    /// `regression.min_rouge_l`, when set.
+    #[serde(skip_serializing_if = "Option::is_none", default)]
+    pub min_rouge_l: Option<f64>,
+    /// Answers whose ROUGE-L F is below `min_rouge_l` (when set).
+    #[serde(skip_serializing_if = "Option::is_none", default)]
+    pub below_rouge_l: Option<usize>,
+    /// `below_rouge_l / answers`, rounded to six decimals (when set).
+    #[serde(skip_serializing_if = "Option::is_none", default)]
+    pub share_below_rouge_l: Option<f64>,
+    /// `regression.min_bleu`, when set.
+    #[serde(skip_serializing_if = "Option::is_none", default)]
+    pub min_bleu: Option<f64>,
+    /// Answers whose BLEU is below `min_bleu` (when set).
+    #[serde(skip_serializing_if = "Option::is_none", default)]
+    pub below_bleu: Option<usize>,
+    /// `below_bleu / answers`, rounded to six decimals (when set).
+    #[serde(skip_serializing_if = "Option::is_none", default)]
+    pub share_below_bleu: Option<f64>,
+}
+
+/// The part of a sharded run a findings document covers (`check --shard K/N`).
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
+pub struct ShardRecord {
+    /// This shard, 1-based.
+    pub k: u64,
+    /// Number of shards.
+    pub n: u64,
+    /// How ids are assigned to shards (see [`crate::shard`]).
+    pub hash: String,
+}
+
+/// One findings file a merged run was joined from (`plumbline merge`).
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
+pub struct PartRecord {
+    /// Path as given to `merge`.
+    pub path: String,
+    /// SHA-256 of the file's bytes.
+    pub sha256: String,
+    /// When that part was made.
+    pub generated_at: String,
+    /// The shard it covers.
+    #[serde(skip_serializing_if = "Option::is_none", default)]
+    pub shard: Option<ShardRecord>,
 }
 
 /// The gate's decision and the rules that decided it.
@@ -516,6 +601,15 @@ pub struct Report {
     pub generated_at: String,
     /// The command line, as arguments.
     pub command: Vec<String>,
+    /// The shard this document covers, for `check --shard K/N`.
+    #[serde(skip_serializing_if = "Option::is_none", default)]
+    pub shard: Option<ShardRecord>,
+    /// The shard files a merged run was joined from (`plumbline merge`).
+    #[serde(skip_serializing_if = "Vec::is_empty", default)]
+    pub merged_from: Vec<PartRecord>,
+    /// Whether restricted documents' text was withheld (`--redact-restricted`).
+    #[serde(skip_serializing_if = "is_false", default)]
+    pub redact_restricted: bool,
     /// Every input with its digest.
     pub inputs: Inputs,
     /// The effective settings.
@@ -528,6 +622,10 @@ pub struct Report {
     pub rejected: Vec<RejectedLine>,
     /// Reviewer decisions.
     pub decisions: Decisions,
+}
+
+fn is_false(b: &bool) -> bool {
+    !*b
 }
 
 /// Rounds a score to six decimals so that output is stable across platforms.
@@ -570,6 +668,14 @@ pub const KIND_DESCRIPTIONS: &[(&str, &str)] = &[
     ),
     ("principal_unknown", "The user's groups are unknown, so the entitlement cannot be decided."),
     ("unused", "The citation resolves but supports no sentence of the answer."),
+    (
+        "below_approved_rouge_l",
+        "The answer's ROUGE-L F against its approved answer is below regression.min_rouge_l: it leaves out or reorders much of the approved wording.",
+    ),
+    (
+        "below_approved_bleu",
+        "The answer's BLEU against its approved answer is below regression.min_bleu: much of its wording does not occur in the approved answer.",
+    ),
     ("rejected_line", "A line of the answers file could not be read as an answer."),
 ];
 

@@ -13,7 +13,11 @@
 //! * [`config`], [`findings`] — plain data: settings and results;
 //! * [`store`], [`answers`], [`decisions`] — the inputs, read and validated once;
 //! * [`access`], [`citations`], [`support`] — the per-answer checks;
+//! * [`shard`], [`identity`], [`regression`] — the shard hash, how a finding is
+//!   recognised across runs, approved-answer regression;
 //! * [`check`] — runs them over one answer; [`run`] over a whole log;
+//! * [`merge`], [`compare`] — join shards' findings into one run; what changed between
+//!   two runs;
 //! * [`report`] — writers that only read findings;
 //! * [`cli`] — one module per subcommand.
 //!
@@ -35,7 +39,13 @@ pub mod decisions;
 pub mod access;
 pub mod citations;
 pub mod support;
+pub mod shard;
+pub mod identity;
+pub mod regression;
 pub mod check;
 pub mod run;
+pub mod runfile;
+pub mod merge;
+pub mod compare;
 pub mod report;
 pub mod cli;

@@ -8,17 +8,17 @@
 //! rayon pool; and collects results in input order. The writers in [`crate::report`]
 //! only read the finished [`Report`].
 //!
-//! Sharding (`--shard K/N`): an answer belongs to shard K (1-based) of N when the
-//! FNV-1a 64-bit hash of its id's UTF-8 bytes, modulo N, equals K − 1. Lines that
-//! cannot be read as answers have no trustworthy id; they are reported by shard 1 only,
-//! so that merged shards count each once.
+//! Sharding (`--shard K/N`, [`crate::shard`]): an answer belongs to shard K (1-based) of
+//! N when the FNV-1a 64-bit hash of its id's UTF-8 bytes, modulo N, equals K − 1. Lines
+//! that cannot be read as answers have no trustworthy id; they are reported by shard 1
+//! only, so that merged shards ([`crate::merge`]) count each once. A shard's findings
+//! document records which shard it covers (`shard`).
 
 use std::collections::BTreeMap;
 use std::fs::File;
 use std::io::{self, BufRead, BufReader, IsTerminal, Read, Write};
 use std::panic::{AssertUnwindSafe, catch_unwind};
 use std::path::{Path, PathBuf};
-use std::str::FromStr;
 use std::time::{Duration, Instant, SystemTime, UNIX_EPOCH};
 
 use anyhow::{Context as _, Result};
@@ -34,42 +34,12 @@ use crate::config::Config;
 use crate::decisions::{self, Decision};
 use crate::findings::{
     AnswerFindings, DecisionRecord, Decisions, Flag, GateResult, InputFile, Inputs, RejectedLine,
-    Report, StoreProblemRecord, StoreRecord, Summary, Tool, Verdict, round6,
+    Report, ShardRecord, StoreProblemRecord, StoreRecord, Summary, Tool, Verdict, round6,
 };
 use crate::report;
-use crate::store::index::{Index, term_hash};
+pub use crate::shard::Shard;
+use crate::store::index::Index;
 use crate::store::{Store, StoreLimits};
-
-/// `--shard K/N`.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-pub struct Shard {
-    /// This shard, 1-based.
-    pub k: u64,
-    /// Number of shards.
-    pub n: u64,
-}
-
-impl FromStr for Shard {
-    type Err = String;
-    fn from_str(s: &str) -> Result<Shard, String> {
-        let (k, n) = s.split_once('/').ok_or_else(|| format!("expected K/N, found {s:?}"))?;
-        let k: u64 =
-            k.trim().parse().map_err(|_| format!("shard K must be a whole number, found {k:?}"))?;
-        let n: u64 =
-            n.trim().parse().map_err(|_| format!("shard N must be a whole number, found {n:?}"))?;
-        if n == 0 || k == 0 || k > n {
-            return Err(format!("shard must satisfy 1 ≤ K ≤ N, found {k}/{n}"));
-        }
-        Ok(Shard { k, n })
-    }
-}
-
-impl Shard {
-    /// Whether the answer with this id belongs to the shard.
-    pub fn owns(&self, id: &str) -> bool {
-        term_hash(id) % self.n == self.k - 1
-    }
-}
 
 /// The input paths and switches of a run.
 #[derive(Debug, Clone)]
@@ -297,6 +267,7 @@ pub fn summarise(
         s.approved_mean_rouge_l = Some(round6(rl / napproved as f64));
         s.approved_mean_bleu = Some(round6(bl / napproved as f64));
     }
+    s.approved = crate::regression::summarise(config, answers);
     let mut reasons = Vec::new();
     if s.answers_failed > 0 {
         let mut kinds: BTreeMap<&str, usize> = BTreeMap::new();
@@ -332,7 +303,7 @@ pub fn check(inputs: &RunInputs, outputs: &Outputs, verbosity: Verbosity) -> Res
     let _ = used;
     write_outputs(&report, outputs)?;
     if verbosity != Verbosity::Quiet {
-        print_summary(&report, outputs, loaded.store_seconds, started.elapsed());
+        print_summary(&report, outputs, Some(loaded.store_seconds), started.elapsed());
     }
     Ok(if report.summary.gate.passed { Outcome::Pass } else { Outcome::GateFailed })
 }
@@ -362,7 +333,7 @@ pub fn check_answers(
     let mut rejected: Vec<RejectedLine> = Vec::new();
     let mut used = vec![false; ctx.decisions.len()];
     let mut other_shards = 0usize;
-    let reports_rejected = inputs.shard.is_none_or(|s| s.k == 1);
+    let reports_rejected = inputs.shard.is_none_or(|s| s.reports_rejected());
     let lines_read;
     {
         let mut reader =
@@ -446,6 +417,13 @@ pub fn check_answers(
         tool: Tool::default(),
         generated_at: utc_now(),
         command: inputs.command.clone(),
+        shard: inputs.shard.map(|s| ShardRecord {
+            k: s.k,
+            n: s.n,
+            hash: crate::shard::HASH_NAME.to_owned(),
+        }),
+        merged_from: Vec::new(),
+        redact_restricted: inputs.redact_restricted,
         inputs: Inputs {
             answers: answers_record,
             principals: opt_record(&inputs.principals)?,
@@ -536,7 +514,8 @@ pub fn write_outputs(report: &Report, outputs: &Outputs) -> Result<()> {
             .with_context(|| format!("writing {}", path.display()))?;
     }
     if let Some(path) = &outputs.sarif {
-        let bytes = report::sarif::render(report)?;
+        let columns = report::locate::locate(report);
+        let bytes = report::sarif::render_located(report, columns.as_ref())?;
         report::write_atomic(path, &bytes)
             .with_context(|| format!("writing {}", path.display()))?;
     }
@@ -544,7 +523,14 @@ pub fn write_outputs(report: &Report, outputs: &Outputs) -> Result<()> {
 }
 
 /// The terminal summary on stderr.
-pub fn print_summary(report: &Report, outputs: &Outputs, store_seconds: f64, elapsed: Duration) {
+///
+/// `store_seconds` is the time spent loading the store, where this process loaded it.
+pub fn print_summary(
+    report: &Report,
+    outputs: &Outputs,
+    store_seconds: Option<f64>,
+    elapsed: Duration,
+) {
     let s = &report.summary;
     let mut err = io::stderr().lock();
     let nonzero = |m: &BTreeMap<String, usize>| -> String {
@@ -552,9 +538,10 @@ pub fn print_summary(report: &Report, outputs: &Outputs, store_seconds: f64, ela
             m.iter().filter(|(_, n)| **n > 0).map(|(k, n)| format!("{k} {n}")).collect();
         if v.is_empty() { "none".into() } else { v.join(", ") }
     };
+    let loaded = store_seconds.map_or_else(String::new, |t| format!(" ({t:.2}s)"));
     let _ = writeln!(
         err,
-        "plumbline: {} answers checked, {} lines rejected ({} non-blank lines read); store {} documents ({store_seconds:.2}s)",
+        "plumbline: {} answers checked, {} lines rejected ({} non-blank lines read); store {} documents{loaded}",
         s.answers_checked, s.lines_rejected, s.lines_read, report.inputs.store.documents
     );
     let _ = writeln!(err, "  sentences: {}", nonzero(&s.verdicts));
@@ -580,7 +567,27 @@ pub fn print_summary(report: &Report, outputs: &Outputs, store_seconds: f64, ela
             report.inputs.store.problems.len()
         );
     }
+    if let Some(ap) = &s.approved {
+        let mut line = format!(
+            "  approved answers: {}, mean ROUGE-L F {:.3}, mean BLEU {:.1}",
+            ap.answers, ap.mean_rouge_l, ap.mean_bleu
+        );
+        if let (Some(min), Some(n)) = (ap.min_rouge_l, ap.below_rouge_l) {
+            line.push_str(&format!("; {n} below min_rouge_l {min}"));
+        }
+        if let (Some(min), Some(n)) = (ap.min_bleu, ap.below_bleu) {
+            line.push_str(&format!("; {n} below min_bleu {min}"));
+        }
+        let _ = writeln!(err, "{line}");
+    }
     let _ = writeln!(err, "  answers:   {} pass, {} fail", s.answers_passed, s.answers_failed);
+    if let Some(sh) = &report.shard {
+        let _ = writeln!(
+            err,
+            "  shard {} of {}: only the answers whose id hashes here; `plumbline merge` joins the shards",
+            sh.k, sh.n
+        );
+    }
     if s.gate.passed {
         let _ = writeln!(err, "gate: PASS");
     } else {
@@ -616,19 +623,5 @@ mod tests {
         // 2000-02-29 (a leap day of a year divisible by 400) at 12:34:56.
         assert_eq!(rfc3339(951_827_696), "2000-02-29T12:34:56Z");
         assert_eq!(rfc3339(1_780_000_000), "2026-05-28T20:26:40Z");
-    }
-
-    #[test]
-    fn shard_parsing_and_partition() {
-        assert!(
-            "0/3".parse::<Shard>().is_err()
-                && "4/3".parse::<Shard>().is_err()
-                && "x".parse::<Shard>().is_err()
-        );
-        let shards: Vec<Shard> = (1..=3).map(|k| Shard { k, n: 3 }).collect();
-        for i in 0..200 {
-            let id = format!("a-{i:04}");
-            assert_eq!(shards.iter().filter(|s| s.owns(&id)).count(), 1);
-        }
     }
 }

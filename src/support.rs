@@ -39,6 +39,7 @@
 //!   question, or a Markdown heading has nothing to check.
 
 use std::borrow::Cow;
+use std::cell::RefCell;
 use std::collections::{HashMap, HashSet};
 use std::ops::Range;
 use std::sync::LazyLock;
@@ -103,8 +104,85 @@ pub fn units(text: &str, ranges: &[Range<usize>]) -> Vec<Unit<'static>> {
 pub struct Claim {
     /// Tokens of the claim text.
     pub tokens: Vec<Token>,
+    /// What separates each token from the next ([`Break::Sentence`] after the last).
+    pub breaks: Vec<Break>,
+    /// Whether each token is part of an identifier (see [`is_identifier`]).
+    pub ident: Vec<bool>,
+    /// The claim text the token ranges point into.
+    pub text: String,
     /// Whether there is nothing to check.
     pub no_claim: bool,
+}
+
+/// What lies between one token and the next: nothing but spaces and joiners, a clause
+/// mark (comma, semicolon, colon, bracket, dash, line break), or the end of a sentence.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord)]
+pub enum Break {
+    /// Same clause.
+    None,
+    /// A clause mark.
+    Clause,
+    /// A sentence ends.
+    Sentence,
+}
+
+/// The breaks after each of `tokens` (byte ranges into `text`); `ends(k)` says token `k`
+/// ends a sentence.
+fn breaks_of(text: &str, tokens: &[&Token], ends: impl Fn(usize) -> bool) -> Vec<Break> {
+    (0..tokens.len())
+        .map(|k| {
+            if k + 1 == tokens.len() || ends(k) {
+                return Break::Sentence;
+            }
+            let between = text.get(tokens[k].end..tokens[k + 1].start).unwrap_or("");
+            let t = between.trim();
+            if t.ends_with(['.', '!', '?']) && between.ends_with(char::is_whitespace) {
+                Break::Sentence
+            } else if between.contains([',', ';', ':', '(', ')', '[', ']', '\n', '—', '–'])
+                || between.contains(" - ")
+            {
+                Break::Clause
+            } else {
+                Break::None
+            }
+        })
+        .collect()
+}
+
+/// The run of non-space characters around `range` of `text`, without the punctuation
+/// that opens or closes a phrase: the compound a word is part of ("Tier2-Billing",
+/// "max_connections").
+fn compound_around(text: &str, range: Range<usize>) -> &str {
+    let (Some(before), Some(after)) = (text.get(..range.start), text.get(range.end..)) else {
+        return "";
+    };
+    let lo = before
+        .char_indices()
+        .rev()
+        .find(|(_, c)| c.is_whitespace())
+        .map_or(0, |(i, c)| i + c.len_utf8());
+    let hi = range.end + after.find(char::is_whitespace).unwrap_or(after.len());
+    let edge = |c: char| !(c.is_alphanumeric() || c == '_');
+    text[lo..hi].trim_matches(edge)
+}
+
+/// Whether a compound reads as an identifier rather than a word: it mixes letters and
+/// digits ("Tier2", "S2", "INC-2026-003"), holds an underscore ("work_mem"), or has a
+/// capital inside a lower-case word ("getValue"). Such names are compared whole: one
+/// for another is a changed term, never a paraphrase.
+pub fn is_identifier(compound: &str) -> bool {
+    let letters = compound.chars().any(char::is_alphabetic);
+    let digits = compound.chars().any(|c| c.is_ascii_digit());
+    let camel = compound
+        .chars()
+        .zip(compound.chars().skip(1))
+        .any(|(a, b)| a.is_lowercase() && b.is_uppercase());
+    letters && (digits || compound.contains('_') || camel)
+}
+
+/// Whether the token at `range` of `text` is part of an identifier.
+fn identifier_at(text: &str, range: Range<usize>) -> bool {
+    is_identifier(compound_around(text, range))
 }
 
 static CHATTER: LazyLock<Regex> = LazyLock::new(|| {
@@ -113,9 +191,24 @@ static CHATTER: LazyLock<Regex> = LazyLock::new(|| {
         r"|(?:many )?thanks\b|thank you\b|you're welcome\b|sure[.!]?$|of course[.!]?$|certainly[.!]?$",
         r"|(?:i )?hope (?:this|that) helps|let me know\b|feel free\b|(?:i'm |i am )?(?:happy|glad) to help",
         r"|is there anything else|if you have (?:any )?(?:other |more |further )?questions",
-        r"|please (?:let me know|reach out|ask)\b|great question)"
+        r"|please (?:let me know|reach out|ask)\b|great question",
+        // A bare answer word ("Yes." "No!") says nothing a source could carry.
+        r"|(?:yes|no|yep|nope|yeah|correct|right|indeed|exactly|absolutely|okay|ok|not quite|not exactly)\W*$",
+        // Offers to the user and requests of them.
+        r"|(?:just )?(?:tell|let|show|send) me\b|if you (?:like|want|wish|prefer)\b|would you like\b",
+        r"|(?:i|we)(?:'ll| will| can| could| would be happy to| am happy to)\b[^.]*\b(?:for you|help you)\b",
+        r")"
     ))
     .unwrap_or_else(|e| panic!("chatter pattern: {e}"))
+});
+
+/// A short lead-in to a list ("Here is what the policy says:"), which claims nothing.
+static LEAD_IN: LazyLock<Regex> = LazyLock::new(|| {
+    Regex::new(concat!(
+        r"(?i)^\W*(?:here(?:'s| is| are)\b[^.]*|in (?:short|summary|brief)|to summari[sz]e",
+        r"|the (?:main )?(?:steps|options|rules) are)\s*:$"
+    ))
+    .unwrap_or_else(|e| panic!("lead-in pattern: {e}"))
 });
 
 /// Prepares `text` (markers already removed) as a claim.
@@ -125,8 +218,13 @@ pub fn claim(text: &str) -> Claim {
     let heading = trimmed.starts_with('#');
     let question = trimmed.trim_end_matches(['"', '\'', ')', '*']).ends_with('?');
     let no_content = !tokens.iter().any(Token::is_content);
-    let no_claim = no_content || heading || question || CHATTER.is_match(trimmed);
-    Claim { tokens, no_claim }
+    let no_claim =
+        no_content || heading || question || CHATTER.is_match(trimmed) || LEAD_IN.is_match(trimmed);
+    let refs: Vec<&Token> = tokens.iter().collect();
+    let breaks = breaks_of(text, &refs, |_| false);
+    let ident =
+        tokens.iter().map(|t| t.figure.is_none() && identifier_at(text, t.start..t.end)).collect();
+    Claim { tokens, breaks, ident, text: text.to_owned(), no_claim }
 }
 
 /// Negation cues (after normalisation, apostrophes are ASCII).
@@ -310,7 +408,14 @@ static SYNONYMS: LazyLock<HashSet<(String, String)>> = LazyLock::new(|| {
 const SYNONYM_CREDIT: f64 = 0.9;
 
 fn is_synonym(a: &str, b: &str) -> bool {
-    SYNONYMS.contains(&(a.to_owned(), b.to_owned()))
+    synonyms_of(a).contains(&term_id(b))
+}
+
+/// Whether two stems are listed opposites.
+fn is_opposite(a: &Token, b: &Token) -> bool {
+    static IDS: LazyLock<HashSet<(u32, u32)>> =
+        LazyLock::new(|| OPPOSITES.iter().map(|(a, b)| (term_id(a), term_id(b))).collect());
+    IDS.contains(&(a.id, b.id)) && OPPOSITES.contains(&(a.stem.clone(), b.stem.clone()))
 }
 
 /// Ids of the listed synonyms of a stem.
@@ -344,6 +449,12 @@ pub struct WindowMatch {
     pub negation_mismatch: bool,
     /// Changed content words.
     pub changed: Vec<ChangedTerm>,
+    /// Longest run of consecutive content words of the claim the window does not carry.
+    pub unmatched_run: usize,
+    /// Longest run of consecutive content words of the claim the window carries.
+    pub matched_run: usize,
+    /// Share of the claim's content words (figures aside) that the window carries.
+    pub word_coverage: f64,
 }
 
 /// Per-unit statistics of the claim's tokens (empty vectors: the unit shares nothing
@@ -355,6 +466,8 @@ struct UnitStats {
     bigrams: Vec<bool>,
     /// Claim-local ids of this unit's tokens that occur in the claim (for LCS).
     ids: Vec<u32>,
+    /// Whether the unit carries some content token of the claim.
+    content: bool,
 }
 
 impl UnitStats {
@@ -442,6 +555,8 @@ pub struct Scorer<'c> {
     lcs: LcsTable,
     /// Character counts of the content tokens (for the fuzzy length filter).
     content_chars: Vec<usize>,
+    /// Fuzzy similarities asked so far.
+    memo: FuzzyMemo,
 }
 
 fn score_of(coverage: f64, bigram: f64, order: f64) -> f64 {
@@ -455,7 +570,7 @@ fn fuzzy_length_ok(a_chars: usize, a: &str, b: &str) -> bool {
 
 impl<'c> Scorer<'c> {
     /// Prepares `claim`.
-    pub fn new(claim: &'c Claim) -> Scorer<'c> {
+    pub fn new(claim: &'c Claim, p: &Params) -> Scorer<'c> {
         let content: Vec<&Token> = claim.tokens.iter().filter(|t| t.is_content()).collect();
         let mut local: IdMap<u32, u32> = IdMap::default();
         for t in &claim.tokens {
@@ -485,12 +600,14 @@ impl<'c> Scorer<'c> {
             e.credits = list;
         }
         let has_figures = content.iter().any(|c| c.figure.is_some());
-        Scorer { claim, content, entries, claim_bigrams, has_figures, lcs, content_chars }
+        let memo = FuzzyMemo::new(p.fuzzy_threshold);
+        Scorer { claim, content, entries, claim_bigrams, has_figures, lcs, content_chars, memo }
     }
 
     fn stats(&self, u: &Unit<'_>) -> UnitStats {
         let (nc, nb) = (self.content.len(), self.claim_bigrams.len());
-        let mut st = UnitStats { credit: Vec::new(), bigrams: Vec::new(), ids: Vec::new() };
+        let mut st =
+            UnitStats { credit: Vec::new(), bigrams: Vec::new(), ids: Vec::new(), content: false };
         let mut prev: Option<u32> = None;
         for id in u.ids.iter() {
             let Some(e) = self.entries.get(id) else {
@@ -531,7 +648,26 @@ impl<'c> Scorer<'c> {
                 }
             }
         }
+        st.content = st.credit.iter().any(|&c| c > 0.0);
         st
+    }
+
+    /// Whether every unit of a window carries content words of the claim that no other
+    /// unit of it carries: two of them, or one for a claim of under six content words.
+    fn each_contributes(&self, win: &[UnitStats]) -> bool {
+        let need = if self.content.len() < 6 { 1 } else { 2 };
+        win.iter().enumerate().all(|(i, s)| {
+            s.content
+                && (0..s.credit.len())
+                    .filter(|&k| {
+                        s.credit[k] > 0.0
+                            && win.iter().enumerate().all(|(j, o)| {
+                                j == i || o.credit.get(k).is_none_or(|&c| c < s.credit[k])
+                            })
+                    })
+                    .count()
+                    >= need
+        })
     }
 
     /// Scores every window of `units` (sentences of one passage, tagged `tag`) on exact
@@ -554,6 +690,12 @@ impl<'c> Scorer<'c> {
             for first in 0..=units.len() - size {
                 let win = &stats[first..first + size];
                 if win.iter().all(UnitStats::is_empty) && !list.is_empty() {
+                    continue;
+                }
+                // Every sentence of a longer window must carry content words of the claim
+                // that the others lack: a sentence that only lends stop words, order or
+                // one stray word is not support.
+                if size > 1 && !self.each_contributes(win) {
                     continue;
                 }
                 credit.iter_mut().for_each(|c| *c = 0.0);
@@ -591,36 +733,54 @@ impl<'c> Scorer<'c> {
         }
     }
 
+    /// Offers `units` whole, as one window, whatever the window size and however little
+    /// each unit adds: for passages joined on purpose (parts of one claim taken from two
+    /// cited passages).
+    pub fn whole(&self, tag: usize, units: &[Unit<'_>], list: &mut Shortlist) {
+        if units.is_empty() || self.claim.tokens.is_empty() {
+            return;
+        }
+        let stats: Vec<UnitStats> = units.iter().map(|u| self.stats(u)).collect();
+        let mut credit = vec![0.0f64; self.content.len()];
+        for s in stats.iter().filter(|s| !s.is_empty()) {
+            for (c, &x) in credit.iter_mut().zip(&s.credit) {
+                *c = c.max(x);
+            }
+        }
+        let coverage = mean(&credit);
+        let nb = self.claim_bigrams.len();
+        let bigram = if nb == 0 {
+            coverage
+        } else {
+            (0..nb).filter(|&k| stats.iter().any(|s| !s.is_empty() && s.bigrams[k])).count() as f64
+                / nb as f64
+        };
+        let order = self.lcs.len_with(stats.iter().flat_map(|s| s.ids.iter().copied())) as f64
+            / self.claim.tokens.len() as f64;
+        list.offer(Candidate {
+            tag,
+            first: 0,
+            last: units.len() - 1,
+            credit,
+            bigram,
+            order,
+            score: score_of(coverage, bigram, order),
+        });
+    }
+
     /// Refines the shortlisted windows with fuzzy credit and inspects the best: its tag
     /// and match. `passage(tag)` gives the units and the text a tag stands for.
     pub fn best<'u>(
         &self,
         list: Shortlist,
         passage: impl Fn(usize) -> (&'u [Unit<'u>], &'u str),
-        p: &Params,
+        cache: &mut TokenCache,
     ) -> Option<(usize, WindowMatch)> {
-        let mut best: Option<(usize, usize, usize, f64, f64, Vec<Token>)> = None;
-        // Shortlisted windows overlap; tokenise each sentence once.
-        let mut unit_tokens: HashMap<(usize, usize), Vec<Token>> = HashMap::new();
+        type Best = (usize, usize, usize, f64, f64, Vec<Token>, Vec<bool>);
+        let mut best: Option<Best> = None;
         for c in list.items {
             let (units, text) = passage(c.tag);
-            let mut tokens: Vec<Token> = Vec::new();
-            for (k, unit) in units.iter().enumerate().take(c.last + 1).skip(c.first) {
-                let toks = unit_tokens.entry((c.tag, k)).or_insert_with(|| {
-                    let r = unit.range.clone();
-                    let mut t = tokenize(&text[r.clone()]);
-                    for x in &mut t {
-                        x.start += r.start;
-                        x.end += r.start;
-                        if let Some(f) = &mut x.figure {
-                            f.start += r.start;
-                            f.end += r.start;
-                        }
-                    }
-                    t
-                });
-                tokens.extend(toks.iter().cloned());
-            }
+            let (tokens, ends) = window_tokens(units, text, c.first, c.last, cache);
             let mut credit = c.credit;
             // Fuzzy credit for words the window lacks (spelling variants, typos).
             for (k, w) in self.content.iter().enumerate() {
@@ -634,7 +794,7 @@ impl<'c> Scorer<'c> {
                             && !t.stop
                             && fuzzy_length_ok(self.content_chars[k], &w.text, &t.text)
                     })
-                    .map(|t| similarity_at_least(&w.text, &t.text, p.fuzzy_threshold))
+                    .map(|t| self.memo.get(&w.text, &t.text))
                     .fold(0.0, f64::max);
                 credit[k] = credit[k].max(fuzzy);
             }
@@ -642,19 +802,126 @@ impl<'c> Scorer<'c> {
             let score = score_of(coverage, c.bigram, c.order);
             let better = match &best {
                 None => true,
-                Some((_, bf, bl, bs, _, _)) => {
+                Some((_, bf, bl, bs, _, _, _)) => {
                     let margin = if c.last - c.first > bl - bf { 0.01 } else { 1e-12 };
                     score > bs + margin || (score > *bs - 1e-12 && c.last - c.first < bl - bf)
                 }
             };
             if better {
-                best = Some((c.tag, c.first, c.last, score, coverage, tokens));
+                best = Some((c.tag, c.first, c.last, score, coverage, tokens, ends));
             }
         }
-        let (tag, first, last, score, coverage, tokens) = best?;
+        let (tag, mut first, mut last, score, coverage, mut tokens, mut ends) = best?;
+        let (units, text) = passage(tag);
+        // A figure stated once near the window (a date in the line above, a version in
+        // the section's first sentence) widens the window to take it in, if every
+        // missing figure is within `WIDEN` sentences.
+        let missing: Vec<&Figure> = self
+            .content
+            .iter()
+            .filter_map(|c| c.figure.as_ref())
+            .filter(|f| {
+                !tokens.iter().any(|t| t.figure.as_ref().is_some_and(|g| f.is_carried_by(g)))
+            })
+            .collect();
+        if !missing.is_empty() {
+            let near = |f: &Figure| {
+                let lo = first.saturating_sub(WIDEN);
+                let hi = (last + WIDEN).min(units.len() - 1);
+                (lo..=hi)
+                    .filter(|&k| units[k].figures.iter().any(|g| f.is_carried_by(g)))
+                    .min_by_key(|&k| if k < first { first - k } else { k.saturating_sub(last) })
+            };
+            let found: Vec<Option<usize>> = missing.iter().map(|f| near(f)).collect();
+            if found.iter().all(Option::is_some) {
+                for k in found.into_iter().flatten() {
+                    first = first.min(k);
+                    last = last.max(k);
+                }
+                (tokens, ends) = window_tokens(units, text, first, last, cache);
+            }
+        }
         let window: Vec<&Token> = tokens.iter().collect();
-        Some((tag, inspect(self.claim, &window, first, last, score, coverage, p)))
+        let found = Found { first, last, score, coverage };
+        Some((tag, inspect(self.claim, &window, &ends, text, found, &self.memo)))
     }
+}
+
+/// Fuzzy similarities of word pairs, each computed once per claim: refining windows,
+/// inspecting the best one and aligning it all ask about the same pairs.
+#[derive(Debug)]
+struct FuzzyMemo {
+    threshold: f64,
+    map: RefCell<IdMap<u64, f64>>,
+}
+
+impl FuzzyMemo {
+    fn new(threshold: f64) -> FuzzyMemo {
+        FuzzyMemo { threshold, map: RefCell::new(IdMap::default()) }
+    }
+
+    /// [`similarity_at_least`] of the two words at this memo's threshold (0 below it).
+    fn get(&self, a: &str, b: &str) -> f64 {
+        let mut h: u64 = 0xcbf2_9ce4_8422_2325;
+        for byte in a.bytes().chain([0xff]).chain(b.bytes()) {
+            h ^= u64::from(byte);
+            h = h.wrapping_mul(0x0100_0000_01b3);
+        }
+        if let Some(&v) = self.map.borrow().get(&h) {
+            return v;
+        }
+        let v = similarity_at_least(a, b, self.threshold);
+        self.map.borrow_mut().insert(h, v);
+        v
+    }
+
+    /// Whether the words are similar at `threshold` (at least this memo's).
+    fn at(&self, a: &str, b: &str, threshold: f64) -> bool {
+        let v = self.get(a, b);
+        v > 0.0 && v >= threshold
+    }
+}
+
+/// Most sentences a window is widened by to take in a figure of the claim.
+const WIDEN: usize = 4;
+
+/// Sentence tokens by the address of the text they are in and their byte range: a cache
+/// that may live as long as the texts (one answer's check), shared by its claims.
+pub type TokenCache = HashMap<(usize, usize, usize), Vec<Token>>;
+
+/// The tokens of units `first..=last` of a passage (ranges in its text), and for each
+/// whether it ends a sentence. Each unit is tokenised once per cache.
+fn window_tokens(
+    units: &[Unit<'_>],
+    text: &str,
+    first: usize,
+    last: usize,
+    cache: &mut TokenCache,
+) -> (Vec<Token>, Vec<bool>) {
+    let mut tokens: Vec<Token> = Vec::new();
+    let mut ends: Vec<bool> = Vec::new();
+    for unit in units.iter().take(last + 1).skip(first) {
+        let key = (text.as_ptr() as usize, unit.range.start, unit.range.end);
+        let toks = cache.entry(key).or_insert_with(|| {
+            let r = unit.range.clone();
+            let mut t = text.get(r.clone()).map(tokenize).unwrap_or_default();
+            for x in &mut t {
+                x.start += r.start;
+                x.end += r.start;
+                if let Some(f) = &mut x.figure {
+                    f.start += r.start;
+                    f.end += r.start;
+                }
+            }
+            t
+        });
+        tokens.extend(toks.iter().cloned());
+        ends.resize(tokens.len(), false);
+        if let Some(e) = ends.last_mut() {
+            *e = true;
+        }
+    }
+    (tokens, ends)
 }
 
 /// Finds the best window of `units` (sentences of `text`) for `claim`. `None` when
@@ -670,26 +937,76 @@ pub fn best_window(
     text: &str,
     p: &Params,
 ) -> Option<WindowMatch> {
-    let scorer = Scorer::new(claim);
+    let scorer = Scorer::new(claim, p);
     let mut list = Shortlist::default();
     scorer.windows(0, units, p, &mut list);
-    scorer.best(list, |_| (units, text), p).map(|(_, m)| m)
+    scorer.best(list, |_| (units, text), &mut TokenCache::new()).map(|(_, m)| m)
 }
 
 fn mean(xs: &[f64]) -> f64 {
     if xs.is_empty() { 0.0 } else { xs.iter().sum::<f64>() / xs.len() as f64 }
 }
 
-/// Runs the figure, polarity and changed-term checks of a claim against a window.
-fn inspect(
-    claim: &Claim,
-    window: &[&Token],
+/// The tokens of a window or a claim, with what separates them and which are parts of
+/// identifiers.
+struct Side<'a> {
+    toks: Vec<&'a Token>,
+    brk: Vec<Break>,
+    ident: Vec<bool>,
+    text: &'a str,
+}
+
+impl Side<'_> {
+    /// The text to show for token `k`: its whole compound for identifiers.
+    fn shown(&self, k: usize) -> String {
+        let t = self.toks[k];
+        if self.ident[k] {
+            let c = compound_around(self.text, t.start..t.end);
+            if !c.is_empty() {
+                return c.to_owned();
+            }
+        }
+        self.text.get(t.start..t.end).map_or_else(|| t.text.clone(), str::to_owned)
+    }
+}
+
+/// Longest run of consecutive content tokens of `tokens` for which `hit` holds
+/// (stop words between them neither break nor extend a run).
+fn longest_run(tokens: &[Token], hit: impl Fn(usize) -> bool) -> usize {
+    let (mut best, mut run) = (0, 0);
+    for (k, t) in tokens.iter().enumerate() {
+        if !t.is_content() {
+            continue;
+        }
+        if hit(k) {
+            run += 1;
+            best = best.max(run);
+        } else {
+            run = 0;
+        }
+    }
+    best
+}
+
+/// Runs the figure, polarity and changed-term checks of a claim against a window
+/// (`ends[k]`: window token `k` ends a sentence of the passage `text`).
+/// Where the best window is and what it scored.
+struct Found {
     first: usize,
     last: usize,
     score: f64,
     coverage: f64,
-    p: &Params,
+}
+
+fn inspect(
+    claim: &Claim,
+    window: &[&Token],
+    ends: &[bool],
+    text: &str,
+    found: Found,
+    memo: &FuzzyMemo,
 ) -> WindowMatch {
+    let Found { first, last, score, coverage } = found;
     let missing_figures: Vec<String> = claim
         .tokens
         .iter()
@@ -698,11 +1015,45 @@ fn inspect(
         .map(ToString::to_string)
         .collect();
 
+    // Which claim tokens the window carries: the same stem, a listed synonym, the same
+    // figure, or (for words the window lacks exactly) a fuzzy variant.
+    let window_stems: HashSet<&str> = window.iter().map(|w| w.stem.as_str()).collect();
+    let window_ids: HashSet<u32> = window.iter().map(|w| w.id).collect();
+    let carried: Vec<bool> = claim
+        .tokens
+        .iter()
+        .map(|c| match &c.figure {
+            Some(f) => window.iter().any(|w| w.figure.as_ref().is_some_and(|g| f.is_carried_by(g))),
+            None => {
+                window_stems.contains(c.stem.as_str())
+                    || synonyms_of(&c.stem).iter().any(|id| window_ids.contains(id))
+                    || (!c.stop && {
+                        let chars = c.text.chars().count();
+                        window.iter().any(|w| {
+                            w.figure.is_none()
+                                && !w.stop
+                                && fuzzy_length_ok(chars, &c.text, &w.text)
+                                && memo.get(&c.text, &w.text) > 0.0
+                        })
+                    })
+            }
+        })
+        .collect();
+    let words: Vec<usize> = (0..claim.tokens.len())
+        .filter(|&k| claim.tokens[k].is_content() && claim.tokens[k].figure.is_none())
+        .collect();
+    let word_coverage = if words.is_empty() {
+        0.0
+    } else {
+        words.iter().filter(|&&k| carried[k]).count() as f64 / words.len() as f64
+    };
+    let unmatched_run = longest_run(&claim.tokens, |k| !carried[k]);
+    let matched_run = longest_run(&claim.tokens, |k| carried[k]);
+
     // Matched ranges for highlighting: exact stems or fuzzy credit.
     let claim_stems: HashSet<&str> =
         claim.tokens.iter().filter(|t| t.is_content()).map(|t| t.stem.as_str()).collect();
     // Fuzzy credit only went to claim words the window lacks exactly.
-    let window_stems: HashSet<&str> = window.iter().map(|w| w.stem.as_str()).collect();
     let fuzzy_claim: Vec<&Token> = claim
         .tokens
         .iter()
@@ -721,13 +1072,31 @@ fn inspect(
                     })
                     || (w.figure.is_none()
                         && fuzzy_claim.iter().any(|c| {
-                            similarity_at_least(&c.text, &w.text, p.fuzzy_threshold) > 0.0
+                            fuzzy_length_ok(c.text.chars().count(), &c.text, &w.text)
+                                && memo.get(&c.text, &w.text) > 0.0
                         })))
         })
         .map(|w| w.start..w.end)
         .collect();
 
-    let (negation_mismatch, changed) = align_checks(claim, window, p);
+    let a = Side {
+        toks: claim.tokens.iter().collect(),
+        brk: claim.breaks.clone(),
+        ident: claim.ident.clone(),
+        text: &claim.text,
+    };
+    // Alignment is quadratic; a window of a few sentences is small, but guard the size.
+    let wtoks: Vec<&Token> = window.iter().copied().take(2_000).collect();
+    let b = Side {
+        brk: breaks_of(text, &wtoks, |k| ends.get(k).copied().unwrap_or(false)),
+        ident: wtoks
+            .iter()
+            .map(|t| t.figure.is_none() && identifier_at(text, t.start..t.end))
+            .collect(),
+        toks: wtoks,
+        text,
+    };
+    let (negation_mismatch, changed) = align_checks(&a, &b, memo);
     WindowMatch {
         first,
         last,
@@ -737,28 +1106,34 @@ fn inspect(
         missing_figures,
         negation_mismatch,
         changed,
+        unmatched_run,
+        matched_run,
+        word_coverage,
     }
 }
 
 /// LCS alignment of claim and window stems: the matched index pairs.
-fn align(a: &[&Token], b: &[&Token], p: &Params) -> Vec<(usize, usize)> {
+fn align(a: &[&Token], b: &[&Token], memo: &FuzzyMemo) -> Vec<(usize, usize)> {
     let (n, m) = (a.len(), b.len());
-    let fuzzy = p.fuzzy_threshold.max(0.9);
+    let fuzzy = memo.threshold.max(0.9);
     // Which pairs match, decided once (the table and the walk back both ask). Fuzzy
     // matches are only sought between words that have no exact partner on the other
     // side: a word present in both is aligned by its exact occurrence.
     let ids_a: HashSet<u32> = a.iter().map(|t| t.id).collect();
     let ids_b: HashSet<u32> = b.iter().map(|t| t.id).collect();
     let mut eq = vec![false; n * m];
+    let b_fuzzy: Vec<bool> =
+        b.iter().map(|y| y.figure.is_none() && !y.stop && !ids_a.contains(&y.id)).collect();
     for (i, x) in a.iter().enumerate() {
         let x_fuzzy = x.figure.is_none() && !x.stop && !ids_b.contains(&x.id);
+        let chars = if x_fuzzy { x.text.chars().count() } else { 0 };
         for (j, y) in b.iter().enumerate() {
             eq[i * m + j] = (x.id == y.id && x.stem == y.stem)
                 || (x.figure.is_some() && y.figure.is_some() && x.text == y.text)
                 || (x_fuzzy
-                    && y.figure.is_none()
-                    && !ids_a.contains(&y.id)
-                    && similarity_at_least(&x.text, &y.text, fuzzy) > 0.0);
+                    && b_fuzzy[j]
+                    && fuzzy_length_ok(chars, &x.text, &y.text)
+                    && memo.at(&x.text, &y.text, fuzzy));
         }
     }
     let same = |i: usize, j: usize| eq[i * m + j];
@@ -789,60 +1164,184 @@ fn align(a: &[&Token], b: &[&Token], p: &Params) -> Vec<(usize, usize)> {
     pairs
 }
 
-fn align_checks(claim: &Claim, window: &[&Token], p: &Params) -> (bool, Vec<ChangedTerm>) {
-    let a: Vec<&Token> = claim.tokens.iter().collect();
-    // Alignment is quadratic; a window of a few sentences is small, but guard the size.
-    let b: Vec<&Token> = window.iter().copied().take(2_000).collect();
-    let pairs = align(&a, &b, p);
+/// Whether token `k` is a negation cue. Bounds written with a negation ("no later
+/// than", "not more than") and "not only" are not: they restate a limit or add to a
+/// claim rather than deny it.
+fn is_cue(toks: &[&Token], k: usize) -> bool {
+    let w = toks[k].text.as_str();
+    if !is_negation(w) {
+        return false;
+    }
+    let next = toks.get(k + 1).map(|t| t.text.as_str());
+    let after = toks.get(k + 2).map(|t| t.text.as_str());
+    let comparative = |n: &str| {
+        matches!(
+            n,
+            "later"
+                | "earlier"
+                | "more"
+                | "less"
+                | "fewer"
+                | "longer"
+                | "shorter"
+                | "greater"
+                | "sooner"
+                | "higher"
+                | "lower"
+                | "older"
+        )
+    };
+    if matches!(w, "no" | "not") && after == Some("than") && next.is_some_and(comparative) {
+        return false;
+    }
+    if w == "not" && next == Some("only") {
+        return false;
+    }
+    if w == "not" && k >= 2 && toks[k - 1].text == "or" && toks[k - 2].text == "whether" {
+        return false;
+    }
+    true
+}
+
+/// Tokens a negation cue at `k` applies to: up to six that follow it in its clause.
+fn scope(side: &Side<'_>, k: usize) -> Range<usize> {
+    let mut end = k + 1;
+    if side.brk[k] != Break::None {
+        return end..end;
+    }
+    while end < side.toks.len() && end - k <= 6 {
+        end += 1;
+        if side.brk[end - 1] != Break::None {
+            break;
+        }
+    }
+    k + 1..end
+}
+
+/// Negation cues of a side with their scopes.
+fn cues(side: &Side<'_>) -> Vec<(usize, Range<usize>)> {
+    (0..side.toks.len()).filter(|&k| is_cue(&side.toks, k)).map(|k| (k, scope(side, k))).collect()
+}
+
+/// Whether some cue of `side` covers position `j`: its scope holds `j`, or it stands at
+/// most three tokens before `j` ("never, under any circumstances, closes").
+fn negated_at(cues: &[(usize, Range<usize>)], j: usize) -> bool {
+    cues.iter().any(|(q, r)| r.contains(&j) || (*q < j && j - q <= 3))
+}
+
+/// Polarity: a negation on one side whose scope is mostly aligned with the other side
+/// (the other side states the same thing) must find a negation there too.
+fn polarity_differs(a: &Side<'_>, b: &Side<'_>, pairs: &[(usize, usize)]) -> bool {
+    let mut partner_a = vec![None; a.toks.len()];
+    let mut partner_b = vec![None; b.toks.len()];
+    for &(i, j) in pairs {
+        partner_a[i] = Some(j);
+        partner_b[j] = Some(i);
+    }
+    let (cues_a, cues_b) = (cues(a), cues(b));
+    let one_way = |x: &Side<'_>,
+                   cx: &[(usize, Range<usize>)],
+                   partner: &[Option<usize>],
+                   cy: &[(usize, Range<usize>)]| {
+        cx.iter().any(|(_, r)| {
+            let content: Vec<usize> = r.clone().filter(|&k| x.toks[k].is_content()).collect();
+            let aligned: Vec<usize> = content.iter().filter_map(|&k| partner[k]).collect();
+            !aligned.is_empty()
+                && aligned.len() * 2 >= content.len()
+                && !aligned.iter().any(|&j| negated_at(cy, j))
+        })
+    };
+    one_way(a, &cues_a, &partner_a, &cues_b) || one_way(b, &cues_b, &partner_b, &cues_a)
+}
+
+/// Whether a sentence of the window ends between window tokens `from` and `to`.
+fn crosses_sentence(b: &Side<'_>, from: usize, to: usize) -> bool {
+    (from..to).any(|k| b.brk.get(k) == Some(&Break::Sentence))
+}
+
+/// Longest gap looked at before the first or after the last aligned word.
+const EDGE: usize = 2;
+
+fn align_checks(a: &Side<'_>, b: &Side<'_>, memo: &FuzzyMemo) -> (bool, Vec<ChangedTerm>) {
+    let pairs = align(&a.toks, &b.toks, memo);
     let mut changed = Vec::new();
     if pairs.is_empty() {
         return (false, changed);
     }
-    // Polarity inside the aligned region of each side.
-    let (a0, b0) = pairs[0];
-    let (a1, b1) = pairs[pairs.len() - 1];
-    // Allow a negation just before the first aligned word ("not all", "never closes").
-    let a_lo = a0.saturating_sub(2);
-    let b_lo = b0.saturating_sub(2);
-    let neg_a = a[a_lo..=a1.min(a.len() - 1)].iter().filter(|t| is_negation(&t.text)).count();
-    let neg_b = b[b_lo..=b1.min(b.len() - 1)].iter().filter(|t| is_negation(&t.text)).count();
-    let negation_mismatch = (neg_a > 0) != (neg_b > 0);
+    let negation_mismatch = polarity_differs(a, b, &pairs);
 
-    // Gaps between aligned pairs, plus a bounded gap before the first and after the last.
-    let mut gaps: Vec<(Range<usize>, Range<usize>)> = Vec::new();
-    gaps.push((a0.saturating_sub(3)..a0, b0.saturating_sub(3)..b0));
+    // Substitutions are sought only where the alignment is tight: between two aligned
+    // words of one window sentence with a short gap on each side, or just before (after)
+    // a run of two aligned words. Scattered single matches across sentences would
+    // otherwise pair words that merely happen to stand near each other.
+    let (n, m) = (a.toks.len(), b.toks.len());
+    let mut gaps: Vec<(Range<usize>, Range<usize>, usize)> = Vec::new();
+    let (a0, b0) = pairs[0];
+    if pairs.len() >= 2 && pairs[1] == (a0 + 1, b0 + 1) {
+        let gb = b0.saturating_sub(2)..b0;
+        if !crosses_sentence(b, gb.start, b0) {
+            gaps.push((a0.saturating_sub(2)..a0, gb, EDGE));
+        }
+    }
     for w in pairs.windows(2) {
         let ((i1, j1), (i2, j2)) = (w[0], w[1]);
-        gaps.push((i1 + 1..i2, j1 + 1..j2));
+        if !crosses_sentence(b, j1, j2) {
+            gaps.push((i1 + 1..i2, j1 + 1..j2, 6));
+        }
     }
-    gaps.push((a1 + 1..(a1 + 4).min(a.len()), b1 + 1..(b1 + 4).min(b.len())));
-    for (ga, gb) in gaps {
-        let ca: Vec<&Token> = a[ga].iter().copied().filter(|t| is_alignable_content(t)).collect();
-        let cb: Vec<&Token> = b[gb].iter().copied().filter(|t| is_alignable_content(t)).collect();
+    let (a1, b1) = pairs[pairs.len() - 1];
+    if pairs.len() >= 2 && pairs[pairs.len() - 2] == (a1 - 1, b1 - 1) {
+        let gb = b1 + 1..(b1 + 3).min(m);
+        if !crosses_sentence(b, b1, gb.end.saturating_sub(1)) {
+            gaps.push((a1 + 1..(a1 + 3).min(n), gb, EDGE));
+        }
+    }
+    for (ga, gb, most) in gaps {
+        let (ga_len, gb_len) = (ga.len(), gb.len());
+        if ga_len == 0 || gb_len == 0 || ga_len > most || gb_len > most {
+            continue;
+        }
+        let ca: Vec<usize> = ga.filter(|&k| is_alignable_content(a.toks[k])).collect();
+        let cb: Vec<usize> = gb.filter(|&k| is_alignable_content(b.toks[k])).collect();
         if ca.is_empty() || cb.is_empty() {
             continue;
         }
         let mut found = false;
-        for x in &ca {
-            for y in &cb {
-                if OPPOSITES.contains(&(x.stem.clone(), y.stem.clone())) {
-                    changed.push(ChangedTerm { claim: x.text.clone(), evidence: y.text.clone() });
+        for &x in &ca {
+            for &y in &cb {
+                if is_opposite(a.toks[x], b.toks[y]) {
+                    changed.push(ChangedTerm { claim: a.shown(x), evidence: b.shown(y) });
                     found = true;
                 }
             }
         }
-        // A one-for-one swap counts only between words of one class: two content words,
-        // or two quantifier/relation words ("after" for "date" is rephrasing, not a swap).
-        if !found && ca.len() == 1 && cb.len() == 1 && ca[0].stop == cb[0].stop {
-            let (x, y) = (ca[0], cb[0]);
+        if found {
+            continue;
+        }
+        // One identifier for another ("Tier2-Billing" where the source has
+        // "Tier2-Dispatch"), whatever else the gap holds.
+        let ia: Vec<usize> = ca.iter().copied().filter(|&k| a.ident[k]).collect();
+        let ib: Vec<usize> = cb.iter().copied().filter(|&k| b.ident[k]).collect();
+        if ia.len() == 1 && ib.len() == 1 && a.toks[ia[0]].stem != b.toks[ib[0]].stem {
+            changed.push(ChangedTerm { claim: a.shown(ia[0]), evidence: b.shown(ib[0]) });
+            continue;
+        }
+        // A one-for-one swap in a short gap counts only between words of one class:
+        // two content words, or two quantifier/relation words ("after" for "date" is
+        // rephrasing, not a swap).
+        // Not at the edges, where sentences often open or close differently ("In that
+        // case, request" for "then the agent requests").
+        if most != EDGE && ca.len() == 1 && cb.len() == 1 && ga_len <= 3 && gb_len <= 3 {
+            let (x, y) = (a.toks[ca[0]], b.toks[cb[0]]);
             let related = x.stem == y.stem
                 || is_synonym(&x.stem, &y.stem)
-                || similarity_at_least(&x.text, &y.text, p.fuzzy_threshold) > 0.0;
-            if !related {
-                changed.push(ChangedTerm { claim: x.text.clone(), evidence: y.text.clone() });
+                || memo.get(&x.text, &y.text) > 0.0;
+            if x.stop == y.stop && !related {
+                changed.push(ChangedTerm { claim: a.shown(ca[0]), evidence: b.shown(cb[0]) });
             }
         }
     }
+    changed.dedup();
     (negation_mismatch, changed)
 }
 
@@ -860,6 +1359,13 @@ pub struct Assessment {
     /// A term was changed.
     pub changed_term: bool,
 }
+
+/// Unmatched consecutive content words that make a supported-scoring claim partial.
+const JOINED_RUN: usize = 3;
+/// Matched consecutive content words that make an unsupported-scoring claim partial.
+const CARRIED_RUN: usize = 4;
+/// Share of the claim's words a window must carry for its figures to be compared.
+const RELEVANT_WORDS: f64 = 0.5;
 
 /// Decides the verdict of a claim from its best window.
 pub fn assess(claim: &Claim, best: Option<&WindowMatch>, p: &Params) -> Assessment {
@@ -890,12 +1396,29 @@ pub fn assess(claim: &Claim, best: Option<&WindowMatch>, p: &Params) -> Assessme
     };
     // The checks only speak where the window is about the same thing as the claim.
     let relevant = m.score >= p.partial;
-    let number_mismatch = !m.missing_figures.is_empty();
+    // A figure is checked where the window is about the same thing: it scores as
+    // partial support, or carries half the claim's words (a changed price in an
+    // otherwise copied sentence lowers the score, not the words).
+    let number_mismatch =
+        !m.missing_figures.is_empty() && (relevant || m.word_coverage >= RELEVANT_WORDS);
     let negation_mismatch = relevant && m.negation_mismatch;
     let changed_term = relevant && !m.changed.is_empty();
+    let content = claim.tokens.iter().filter(|t| t.is_content()).count();
     if number_mismatch || negation_mismatch {
         verdict = Verdict::Unsupported;
     } else if changed_term && verdict == Verdict::Supported {
+        verdict = Verdict::Partial;
+    } else if verdict == Verdict::Supported
+        && m.unmatched_run >= JOINED_RUN
+        && m.unmatched_run * 4 >= content
+    {
+        // A clause of its own that the window does not carry, joined to one it does.
+        verdict = Verdict::Partial;
+    } else if verdict == Verdict::Unsupported
+        && m.matched_run >= CARRIED_RUN
+        && m.matched_run * 3 >= content
+    {
+        // A clause the window carries word for word, joined to one it does not.
         verdict = Verdict::Partial;
     }
     Assessment { verdict, score: m.score, number_mismatch, negation_mismatch, changed_term }
@@ -986,5 +1509,146 @@ mod tests {
         let (_, m) = check("Claims close automatically.", PASSAGE);
         let words: Vec<&str> = m.matched.iter().map(|r| &PASSAGE[r.clone()]).collect();
         assert!(words.contains(&"close") && words.contains(&"automatically"), "{words:?}");
+    }
+
+    #[test]
+    fn bare_answers_offers_and_lead_ins_are_no_claim() {
+        for s in [
+            "Yes.",
+            "No!",
+            "Tell me and I can check the rules for you.",
+            "If you like, I can send the form.",
+            "I can look that up for you.",
+            "Here is what the policy says:",
+        ] {
+            assert!(claim(s).no_claim, "{s}");
+        }
+        for s in ["Yes, the refund is paid within 5 days.", "No refunds are given after 30 days."] {
+            assert!(!claim(s).no_claim, "{s}");
+        }
+    }
+
+    #[test]
+    fn identifiers_are_told_from_words() {
+        for s in ["Tier2-Billing", "max_connections", "S2", "getValue", "INC-2026-003"] {
+            assert!(is_identifier(s), "{s}");
+        }
+        for s in ["look-alike", "multi-factor", "Billing", "2026", "e-mail"] {
+            assert!(!is_identifier(s), "{s}");
+        }
+    }
+
+    #[test]
+    fn negation_outside_the_claim_does_not_count() {
+        // The window negates something the claim does not say (multi-factor set-up).
+        let passage = "Two support agents entered their passwords on the look-alike page; \
+            neither account had multi-factor authentication set up. The accounts were locked \
+            at 09:55 and the passwords reset.";
+        let (a, m) = check(
+            "Two support agents entered their passwords on a look-alike page, and the accounts were locked at 09:55.",
+            passage,
+        );
+        assert!(!a.negation_mismatch, "{m:?}");
+        assert_eq!(a.verdict, Verdict::Supported);
+        // A bound written with "no" is not a denial.
+        let (a, _) = check(
+            "Reply within 5 working days.",
+            "Reply no later than 5 working days after the request.",
+        );
+        assert!(!a.negation_mismatch);
+    }
+
+    #[test]
+    fn negation_inside_the_claim_counts_both_ways() {
+        let passage = "Unused leave does not carry over automatically. Managers must approve overtime before the shift starts.";
+        let (a, _) = check("Unused leave carries over automatically.", passage);
+        assert!(a.negation_mismatch);
+        assert_eq!(a.verdict, Verdict::Unsupported);
+        let (a, _) = check("Managers must not approve overtime before the shift starts.", passage);
+        assert!(a.negation_mismatch);
+        let (a, _) = check("Unused leave does not carry over automatically.", passage);
+        assert!(!a.negation_mismatch);
+    }
+
+    #[test]
+    fn a_stray_match_in_another_sentence_is_no_changed_term() {
+        // "work" of "work phone" also stands in the next sentence ("work on the floor"):
+        // pairing "phone" with "warehouse" there would be a false alarm.
+        let passage = "The new starter must change their temporary password at first login. \
+            Book the Safe Lifting course for anyone who will work on the warehouse floor.";
+        let (a, m) = check(
+            "The new starter must change their temporary password at first login, using the app on their work phone.",
+            passage,
+        );
+        assert!(!a.changed_term, "{m:?}");
+        // Sentences that open differently are not swaps either.
+        let (a, m) = check(
+            "In that case, request a bank transfer through the finance queue.",
+            "The card has expired; then the agent requests a bank transfer through the finance queue.",
+        );
+        assert!(!a.changed_term, "{m:?}");
+    }
+
+    #[test]
+    fn one_identifier_for_another_is_a_changed_term() {
+        let (a, m) = check(
+            "Escalate it to the Tier2-Billing queue, which handles lost parcels after the courier has confirmed the loss.",
+            "Tier2-Dispatch: lost parcels after the courier has confirmed the loss, damaged deliveries and wrong items sent.",
+        );
+        assert!(a.changed_term, "{m:?}");
+        assert_eq!(
+            m.changed[0],
+            ChangedTerm { claim: "Tier2-Billing".into(), evidence: "Tier2-Dispatch".into() }
+        );
+        assert_ne!(a.verdict, Verdict::Supported);
+    }
+
+    #[test]
+    fn a_sentence_that_lends_only_stop_words_is_not_in_the_window() {
+        let passage = "A customer name such as <script>alert(1)</script> must appear on the screen as those exact characters and must never run.\n\n\
+            Use the template engine's automatic escaping and keep it switched on. A placeholder such as {{ customer_name }} is escaped automatically; marking a value as safe needs a second reviewer.";
+        let (a, m) = check(
+            "A placeholder such as {{ customer_name }} is escaped automatically, so keep the template engine's automatic escaping switched on.",
+            passage,
+        );
+        assert_eq!((m.first, m.last), (1, 2), "{m:?}");
+        assert_eq!(a.verdict, Verdict::Supported, "{m:?}");
+    }
+
+    #[test]
+    fn an_unsupported_clause_joined_to_a_supported_one_is_partial() {
+        let passage = "You have the right to return to the same job after 26 weeks of leave, \
+            and to a job of the same grade and pay after longer leave.";
+        let (a, m) = check(
+            "You have the right to return to the same job after 26 weeks of leave, and you will also receive a welcome-back bonus paid with your next salary.",
+            passage,
+        );
+        assert_eq!(a.verdict, Verdict::Partial, "{m:?}");
+        let (a, m) = check(
+            "Warranty claims stay open for 45 days from the date of purchase and customers get a free mug.",
+            PASSAGE,
+        );
+        assert_eq!(a.verdict, Verdict::Partial, "{m:?}");
+    }
+
+    #[test]
+    fn a_figure_in_a_nearby_sentence_widens_the_window() {
+        let passage = "Found 3 February 2026 at 08:40. Severity S2. A message asked agents to confirm \
+            their login. Two support agents entered their passwords on the look-alike page. \
+            The accounts were locked at 09:55 and the passwords reset.";
+        let (a, m) = check(
+            "On 3 February 2026 two support agents entered their passwords on a look-alike page, and the accounts were locked at 09:55.",
+            passage,
+        );
+        assert!(!a.number_mismatch, "{m:?}");
+        assert_eq!(m.first, 0);
+        // Too far away, it does not.
+        let far = format!(
+            "Found 3 February 2026. {} {}",
+            "Nothing else happened that day. ".repeat(6),
+            "The accounts were locked at 09:55."
+        );
+        let (a, _) = check("On 3 February 2026 the accounts were locked at 09:55.", &far);
+        assert!(a.number_mismatch);
     }
 }

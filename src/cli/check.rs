@@ -38,7 +38,9 @@ pub struct CheckArgs {
     /// Write SARIF 2.1.0: one rule per finding kind.
     #[arg(long, value_name = "FILE")]
     pub sarif: Option<PathBuf>,
-    /// Check only the answers whose id hashes to shard K of N (FNV-1a of the id, mod N).
+    /// Check only the answers whose id hashes to shard K of N (64-bit FNV-1a of the id's
+    /// UTF-8 bytes, mod N, plus 1); shard 1 also reports unreadable lines. Join the
+    /// shards' --json files with `plumbline merge`.
     #[arg(long, value_name = "K/N")]
     pub shard: Option<Shard>,
     /// Reviewer decisions (JSON Lines) that waive named findings.

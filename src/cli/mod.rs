@@ -8,7 +8,9 @@ use std::process::ExitCode;
 use clap::{Parser, Subcommand};
 
 pub mod check;
+pub mod compare;
 pub mod demo;
+pub mod merge;
 pub mod score;
 pub mod sentences;
 
@@ -47,6 +49,10 @@ enum Command {
     Score(score::ScoreArgs),
     /// Print the sentences plumbline sees in a text (JSON), for inspecting the splitter.
     Sentences(sentences::SentencesArgs),
+    /// What got better or worse between two runs' findings; exit 1 when NEW is worse.
+    Compare(compare::CompareArgs),
+    /// Join the findings of shards (check --shard K/N) into one run.
+    Merge(merge::MergeArgs),
 }
 
 /// Runs the command line and returns the process exit code.
@@ -64,6 +70,8 @@ pub fn main() -> ExitCode {
         Command::Demo(args) => demo::execute(&args),
         Command::Score(args) => score::execute(&args),
         Command::Sentences(args) => sentences::execute(&args),
+        Command::Compare(args) => compare::execute(&args),
+        Command::Merge(args) => merge::execute(&args),
     };
     match result {
         Ok(Outcome::Pass) => ExitCode::SUCCESS,

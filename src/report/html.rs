@@ -23,7 +23,7 @@ use sha2::{Digest, Sha256};
 
 use crate::findings::Report;
 
-mod view;
+pub(crate) mod view;
 
 const TEMPLATE: &str = include_str!("../../templates/report.html");
 const STYLE: &str = include_str!("../../templates/report.css");

@@ -1,6 +1,9 @@
 //! JUnit XML (`--junit`): one `testcase` per answer with one `failure` per finding that
-//! fails the gate, and one `error` testcase per rejected input line, in the widely read
-//! `testsuites → testsuite → testcase` form (the Jenkins `junit-4.xsd` schema).
+//! fails the gate (its message the finding's, its text the sentence, the citation and the
+//! line), the answer's other findings in `system-out`, and one testcase with an `error`
+//! per rejected input line, in the widely read `testsuites → testsuite → testcase` form.
+//! Validated against the Jenkins `junit-4.xsd` schema and read back with a JUnit parser in
+//! `tests/integration/formats.rs`.
 
 use std::fmt::Write;
 
@@ -25,6 +28,21 @@ pub fn xml_escape(s: &str) -> String {
     out
 }
 
+/// `s` as an XML CDATA section (a `]]>` inside is split across two sections), with the
+/// characters XML 1.0 cannot carry dropped. Element text goes in CDATA so that readers
+/// that mishandle entity references in text (some JUnit parsers drop them) still get it
+/// whole.
+pub fn cdata(s: &str) -> String {
+    let clean: String = s
+        .chars()
+        .filter(|&c| {
+            matches!(c, '\t' | '\n' | '\r')
+                || !((c as u32) < 0x20 || c == '\u{FFFE}' || c == '\u{FFFF}')
+        })
+        .collect();
+    format!("<![CDATA[{}]]>", clean.replace("]]>", "]]]]><![CDATA[>"))
+}
+
 /// Renders the JUnit XML document.
 pub fn render(report: &Report) -> String {
     let failing: usize = report.answers.iter().filter(|a| !a.passed).count();
@@ -45,7 +63,8 @@ pub fn render(report: &Report) -> String {
     for a in &report.answers {
         let _ = write!(x, "    <testcase classname=\"answers\" name=\"{}\"", xml_escape(&a.id));
         let failures: Vec<_> = a.findings.iter().filter(|f| f.gate).collect();
-        if failures.is_empty() {
+        let others: Vec<_> = a.findings.iter().filter(|f| !f.gate).collect();
+        if failures.is_empty() && others.is_empty() {
             x.push_str("/>\n");
             continue;
         }
@@ -64,8 +83,21 @@ pub fn render(report: &Report) -> String {
                 "      <failure type=\"{}\" message=\"{}\">{}</failure>",
                 xml_escape(&f.kind),
                 xml_escape(&f.message),
-                xml_escape(&body)
+                cdata(&body)
             );
+        }
+        if !others.is_empty() {
+            // Findings that do not fail the gate (warnings, waived ones) as the testcase's
+            // output, where CI pages show them beside a passing test.
+            let mut out = String::from("findings that do not fail the gate:\n");
+            for f in others {
+                let state = match &f.accepted {
+                    Some(acc) => format!(" (accepted by {}: {})", acc.by, acc.note),
+                    None => String::new(),
+                };
+                let _ = writeln!(out, "- {}: {}{state}", f.kind, f.message);
+            }
+            let _ = writeln!(x, "      <system-out>{}</system-out>", cdata(&out));
         }
         x.push_str("    </testcase>\n");
     }
@@ -84,6 +116,11 @@ pub fn render(report: &Report) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn cdata_cannot_be_closed_early() {
+        assert_eq!(cdata("a]]>b\u{1}<c>"), "<![CDATA[a]]]]><![CDATA[>b<c>]]>");
+    }
 
     #[test]
     fn escapes_markup_and_drops_forbidden_controls() {

@@ -8,9 +8,11 @@ use std::fs;
 use std::io::{self, Write};
 use std::path::Path;
 
+pub mod compare_html;
 pub mod html;
 pub mod json;
 pub mod junit;
+pub mod locate;
 pub mod sarif;
 
 /// Writes `bytes` to `path` through a temporary file in the same directory and a rename;

@@ -4,6 +4,7 @@
 //! ```sh
 //! cargo bench --bench check                      # 1,000 documents, 10,000 answers
 //! PLUMBLINE_BENCH_SCALE=full cargo bench --bench check   # also 20,000 documents, 100,000 answers
+//! PLUMBLINE_BENCH_ANSWERS=1000 cargo bench --bench check # a shorter log, e.g. under a profiler
 //! ```
 //!
 //! The corpus is synthetic and seeded (see tests/bench/README.md): documents of 300–3,000
@@ -264,7 +265,12 @@ fn main() {
         return; // `cargo test --benches` builds and lists benches; nothing to time there.
     }
     println!("machine: {} cores", std::thread::available_parallelism().map_or(1, |n| n.get()));
-    run_scale(1_000, 10_000);
+    // PLUMBLINE_BENCH_ANSWERS shortens the first scale's log (for profiling runs).
+    let answers = std::env::var("PLUMBLINE_BENCH_ANSWERS")
+        .ok()
+        .and_then(|v| v.parse().ok())
+        .unwrap_or(10_000);
+    run_scale(1_000, answers);
     if full {
         run_scale(20_000, 100_000);
     }

@@ -225,10 +225,10 @@ fn rejected_lines_are_counted_and_fail_the_gate() {
 fn reviewer_decisions_waive_findings_and_stale_ones_are_listed() {
     let run = staff_store()
         .answer(json!({"id": "d", "user": "u-1", "answer": "Staff get free lunches every Friday [1].",
-            "citations": [cite("1", "support/warranty.md")]}))
+            "citations": [cite("1", "support/warranty.md"), cite("2", "facilities/parking.txt")]}))
         .accept(&[
             json!({"answer": "d", "sentence": 0, "finding": "unsupported", "by": "rev-7", "note": "canteen policy, agreed"}),
-            json!({"answer": "d", "ref": "1", "finding": "unused", "by": "rev-7", "note": "fine"}),
+            json!({"answer": "d", "ref": "2", "finding": "unused", "by": "rev-7", "note": "fine"}),
             json!({"answer": "zz", "finding": "dead", "by": "rev-7", "note": "old"}),
         ])
         .check(&[]);
@@ -271,4 +271,97 @@ fn output_is_deterministic_apart_from_the_timestamp() {
     let a = strip(fx.check(&[]).findings);
     let b = strip(fx.check(&[]).findings);
     assert_eq!(a, b);
+}
+
+const MFA: &str = "# Accounts\n\nMulti-factor authentication is required for every account. \
+Use the authenticator app on your work phone.\n";
+
+const ONBOARDING: &str = "# First day\n\nThe new starter must change their temporary password at \
+first login and set up multi-factor authentication the same day.\n";
+
+#[test]
+fn a_cited_passage_that_does_not_carry_its_sentence_is_ok_and_an_unnamed_one_is_unused() {
+    // SPEC.md: `unused` is "resolved, but supports no sentence of the answer". A citation
+    // that a marker names is tied to its sentence, whose verdict carries the problem;
+    // one that no marker names and that supports nothing is `unused`.
+    let run = staff_store()
+        .answer(json!({"id": "u", "user": "u-1",
+            "answer": "Staff parking is free on weekdays [1]. Agents may extend warranty claims by phone [2].",
+            "citations": [cite("1", "facilities/parking.txt"), cite("2", "facilities/parking.txt"),
+                          cite("3", "support/warranty.md")]}))
+        .check(&[]);
+    assert_eq!(run.status("u", "1"), "ok");
+    assert_eq!(run.verdict("u", 1), "unsupported");
+    assert_eq!(run.status("u", "2"), "ok", "named by the marker of sentence 2");
+    assert_eq!(run.status("u", "3"), "unused", "named by no marker");
+}
+
+#[test]
+fn an_uncited_sentence_is_checked_against_every_citation() {
+    let run = staff_store()
+        .answer(json!({"id": "n", "user": "u-1",
+            "answer": "Warranty claims stay open for 45 days from the date of purchase [1]. After that they close automatically.",
+            "citations": [cite("1", "support/warranty.md")]}))
+        .check(&[]);
+    assert_eq!(run.flags("n", 1), ["uncited"]);
+    assert_eq!(run.verdict("n", 1), "supported");
+    let used = &run.answer("n")["citations"][0]["used_by"];
+    assert_eq!(used, &json!([0, 1]));
+}
+
+#[test]
+fn a_sentence_citing_two_passages_may_take_a_part_from_each() {
+    let run = Fixture::new()
+        .doc("hr/onboarding.md", ONBOARDING)
+        .doc("security/mfa.md", MFA)
+        .doc("manifest.json", &json!({"default_access": ["*"]}).to_string())
+        .answer(json!({"id": "j", "groups": ["staff"],
+            "answer": "The new starter must change their temporary password at first login and set up multi-factor authentication the same day, using the authenticator app on their work phone [1, 2].",
+            "citations": [cite("1", "hr/onboarding.md"), cite("2", "security/mfa.md")]}))
+        .check(&[]);
+    let s = &run.answer("j")["sentences"][0];
+    assert_eq!(run.verdict("j", 0), "supported", "{s}");
+    assert_eq!(s["evidence"]["doc"], "hr/onboarding.md");
+    assert_eq!(s["also_evidence"][0]["doc"], "security/mfa.md");
+    assert!(s["also_evidence"][0]["text"].as_str().unwrap().contains("work phone"));
+    assert_eq!(run.status("j", "1"), "ok");
+    assert_eq!(run.status("j", "2"), "ok");
+    // Each alone carries only a part of it.
+    for (r, doc) in [("1", "hr/onboarding.md"), ("2", "security/mfa.md")] {
+        let one = Fixture::new()
+            .doc("hr/onboarding.md", ONBOARDING)
+            .doc("security/mfa.md", MFA)
+            .doc("manifest.json", &json!({"default_access": ["*"]}).to_string())
+            .answer(json!({"id": "j", "groups": ["staff"],
+                "answer": "The new starter must change their temporary password at first login and set up multi-factor authentication the same day, using the authenticator app on their work phone [1].",
+                "citations": [cite("1", doc)]}))
+            .check(&[]);
+        assert_ne!(one.verdict("j", 0), "supported", "citation {r} alone");
+    }
+}
+
+#[test]
+fn accepting_a_figure_finding_accepts_the_unsupported_verdict_it_caused() {
+    let run = staff_store()
+        .answer(json!({"id": "d", "user": "u-1",
+            "answer": "Warranty claims stay open for 54 days from the date of purchase [1].",
+            "citations": [cite("1", "support/warranty.md")]}))
+        .accept(&[json!({"answer": "d", "sentence": 0, "finding": "number_mismatch",
+            "by": "qa-1", "note": "agreed with the product owner"})])
+        .check(&[]);
+    assert_eq!(run.verdict("d", 0), "unsupported");
+    let findings = run.answer("d")["findings"].as_array().unwrap().clone();
+    let unsupported = findings.iter().find(|f| f["kind"] == "unsupported").unwrap();
+    assert_eq!(unsupported["accepted"]["by"], "qa-1");
+    assert!(unsupported["accepted"]["note"].as_str().unwrap().contains("number_mismatch"));
+    assert_eq!(run.code(), 0, "{}", run.stderr());
+    // An unsupported verdict the words themselves earn is not waived that way.
+    let run = staff_store()
+        .answer(json!({"id": "d", "user": "u-1",
+            "answer": "Staff get 12 free lunches every Friday [1].",
+            "citations": [cite("1", "support/warranty.md")]}))
+        .accept(&[json!({"answer": "d", "sentence": 0, "finding": "number_mismatch",
+            "by": "qa-1", "note": "n/a"})])
+        .check(&[]);
+    assert_eq!(run.code(), 1);
 }

@@ -5,7 +5,10 @@
 //! that define the metrics.
 
 mod check;
+mod formats;
+mod gating;
 mod confinement;
+mod demo;
 mod cli;
 mod common;
 mod harness;

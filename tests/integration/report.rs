@@ -249,7 +249,13 @@ fn demo_report_has_every_section_and_the_summary_counts() {
     let evidence: Vec<String> = answers
         .iter()
         .flat_map(|a| a["sentences"].as_array().cloned().unwrap_or_default())
-        .flat_map(|s| [s["evidence"]["text"].clone(), s["cited_evidence"]["text"].clone()])
+        .flat_map(|s| {
+            let also = s["also_evidence"].as_array().cloned().unwrap_or_default();
+            [s["evidence"]["text"].clone(), s["cited_evidence"]["text"].clone()]
+                .into_iter()
+                .chain(also.into_iter().map(|e| e["text"].clone()))
+                .collect::<Vec<_>>()
+        })
         .filter_map(|t| t.as_str().map(str::to_owned))
         .collect();
     let marks: Vec<String> = page.select(&sel("blockquote mark")).map(text).collect();
@@ -357,6 +363,7 @@ fn synthetic_answer(i: usize) -> AnswerFindings {
             score,
             flags,
             evidence: Some(evidence(score)),
+            also_evidence: Vec::new(),
             cited_evidence: None,
             figures: Vec::new(),
             changed_terms: Vec::new(),
@@ -442,6 +449,9 @@ fn synthetic_report(n: usize) -> Report {
         tool: Tool::default(),
         generated_at: "2026-01-01T00:00:00Z".into(),
         command: vec!["plumbline".into(), "check".into()],
+        shard: None,
+        merged_from: Vec::new(),
+        redact_restricted: false,
         inputs: Inputs {
             answers: file("answers.jsonl"),
             principals: None,

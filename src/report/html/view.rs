@@ -50,6 +50,36 @@ pub struct Page<'a> {
     pub verdicts: Vec<VerdictInfo>,
     pub kinds: Vec<KindRow>,
     pub filter: FilterOptions,
+    /// `check --shard K/N`: the shard this report covers.
+    pub shard: Option<(u64, u64)>,
+    /// `merge`: the shard files it was joined from.
+    pub parts: Vec<PartView<'a>>,
+    /// `[regression]` thresholds, as set.
+    pub min_rouge_l: Option<String>,
+    pub min_bleu: Option<String>,
+}
+
+/// One shard file of a merged run.
+#[derive(Debug, Serialize)]
+pub struct PartView<'a> {
+    pub path: &'a str,
+    pub sha256: &'a str,
+    pub generated_at: &'a str,
+    pub shard: String,
+}
+
+/// Agreement with the approved answers over the run.
+#[derive(Debug, Serialize)]
+pub struct ApprovedSummaryView {
+    pub answers: usize,
+    pub mean_rouge1: String,
+    pub mean_rouge2: String,
+    pub mean_rouge_l: String,
+    pub mean_bleu: String,
+    pub below_rouge_l: Option<usize>,
+    pub share_below_rouge_l: Option<String>,
+    pub below_bleu: Option<usize>,
+    pub share_below_bleu: Option<String>,
 }
 
 /// One input file of the run record.
@@ -153,6 +183,7 @@ pub struct SummaryView {
     pub citations_total: usize,
     pub approved_mean_rouge_l: Option<String>,
     pub approved_mean_bleu: Option<String>,
+    pub approved: Option<ApprovedSummaryView>,
     pub verdicts: Vec<CountRow>,
     pub verdict_bars: Vec<Bar>,
     pub citations: Vec<CountRow>,
@@ -218,6 +249,9 @@ pub struct ApprovedView {
     pub rouge2: String,
     pub rouge_l: String,
     pub bleu: String,
+    /// Below `regression.min_rouge_l` / `min_bleu`, where set.
+    pub below_rouge_l: bool,
+    pub below_bleu: bool,
 }
 
 /// One sentence of an answer.
@@ -239,6 +273,8 @@ pub struct SentenceView<'a> {
     /// Why the verdict is lower than the score alone would give.
     pub lowered: Option<String>,
     pub evidence: Option<EvidenceView<'a>>,
+    /// Windows of further cited passages that carry the rest of the sentence.
+    pub also_evidence: Vec<EvidenceView<'a>>,
     pub cited_evidence: Option<EvidenceView<'a>>,
 }
 
@@ -411,6 +447,22 @@ impl<'a> Page<'a> {
                 })
                 .collect(),
             filter: filter_options(report),
+            shard: report.shard.as_ref().map(|s| (s.k, s.n)),
+            parts: report
+                .merged_from
+                .iter()
+                .map(|p| PartView {
+                    path: &p.path,
+                    sha256: &p.sha256,
+                    generated_at: &p.generated_at,
+                    shard: p
+                        .shard
+                        .as_ref()
+                        .map_or_else(|| "whole run".into(), |s| format!("{} of {}", s.k, s.n)),
+                })
+                .collect(),
+            min_rouge_l: config.regression.min_rouge_l.map(|x| x.to_string()),
+            min_bleu: config.regression.min_bleu.map(|x| x.to_string()),
         }
     }
 }
@@ -506,7 +558,7 @@ fn input_rows(report: &Report) -> Vec<InputRow<'_>> {
 fn settings_tables(config: &serde_json::Value) -> (Vec<SettingsTable>, bool) {
     let defaults = serde_json::to_value(Config::default()).unwrap_or_default();
     let Some(tables) = config.as_object() else { return (Vec::new(), true) };
-    let order = ["thresholds", "gate", "support", "limits"];
+    let order = ["thresholds", "gate", "regression", "support", "limits"];
     let mut names: Vec<&String> = tables.keys().collect();
     names.sort_by_key(|n| (order.iter().position(|o| o == n).unwrap_or(order.len()), *n));
     let mut all_default = true;
@@ -585,6 +637,17 @@ fn summary_view(report: &Report, config: &Config) -> SummaryView {
         citations_total,
         approved_mean_rouge_l: s.approved_mean_rouge_l.map(|x| format!("{x:.3}")),
         approved_mean_bleu: s.approved_mean_bleu.map(|x| format!("{x:.1}")),
+        approved: s.approved.as_ref().map(|a| ApprovedSummaryView {
+            answers: a.answers,
+            mean_rouge1: format!("{:.3}", a.mean_rouge1),
+            mean_rouge2: format!("{:.3}", a.mean_rouge2),
+            mean_rouge_l: format!("{:.3}", a.mean_rouge_l),
+            mean_bleu: format!("{:.1}", a.mean_bleu),
+            below_rouge_l: a.below_rouge_l,
+            share_below_rouge_l: a.below_rouge_l.map(|n| percent(n, a.answers)),
+            below_bleu: a.below_bleu,
+            share_below_bleu: a.below_bleu.map(|n| percent(n, a.answers)),
+        }),
         verdict_bars: bars(&verdicts),
         verdicts,
         citation_bars: bars(&citations),
@@ -784,17 +847,20 @@ fn answer_view<'a>(i: usize, a: &'a AnswerFindings, config: &Config) -> AnswerVi
             .collect(),
         sentences,
         findings,
-        approved: a.approved.as_ref().map(approved_view),
+        approved: a.approved.as_ref().map(|ap| approved_view(ap, config)),
         anchor,
     }
 }
 
-fn approved_view(a: &ApprovedComparison) -> ApprovedView {
+fn approved_view(a: &ApprovedComparison, config: &Config) -> ApprovedView {
+    let r = &config.regression;
     ApprovedView {
         rouge1: format!("{:.3}", a.rouge1),
         rouge2: format!("{:.3}", a.rouge2),
         rouge_l: format!("{:.3}", a.rouge_l),
         bleu: format!("{:.1}", a.bleu),
+        below_rouge_l: r.min_rouge_l.is_some_and(|m| a.rouge_l < m),
+        below_bleu: r.min_bleu.is_some_and(|m| a.bleu < m),
     }
 }
 
@@ -873,6 +939,7 @@ fn sentence_view<'a>(
         elsewhere,
         lowered: lowered(s, config),
         evidence: s.evidence.as_ref().map(evidence_view),
+        also_evidence: s.also_evidence.iter().map(evidence_view).collect(),
         cited_evidence: s.cited_evidence.as_ref().map(evidence_view),
     }
 }
