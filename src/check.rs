@@ -82,8 +82,15 @@ pub struct Checked {
 /// a reviewer to look.
 pub fn severity_of(kind: &str) -> Severity {
     match kind {
-        "stale" | "access_unknown" | "principal_unknown" | "unused" | "unknown_ref" | "uncited"
-        | "partial" | "below_approved_rouge_l" | "below_approved_bleu" => Severity::Warning,
+        "stale"
+        | "access_unknown"
+        | "principal_unknown"
+        | "unused"
+        | "unknown_ref"
+        | "uncited"
+        | "partial"
+        | "below_approved_rouge_l"
+        | "below_approved_bleu" => Severity::Warning,
         _ => Severity::Error,
     }
 }

@@ -396,7 +396,7 @@ pub fn claim_like(raw: &str, collection: Collection) -> bool {
     // Two sentences the store's splitter kept together ("… spam.lib. Spam.dll …").
     static INNER_END: LazyLock<Regex> =
         LazyLock::new(|| Regex::new(r"[.!?] [A-Z]").unwrap_or_else(|e| panic!("inner end: {e}")));
-    if INNER_END.is_match(&text[..text.len() - 1]) {
+    if INNER_END.is_match(&text[..text.len() - 1]) || text[..text.len() - 1].contains(['?', '!']) {
         return false;
     }
     let lower = text.to_lowercase();

@@ -1409,6 +1409,9 @@ pub fn swap_identifier(
     }
     let (a, b, kind, others) = &options[rng.below(options.len())];
     let with = others[rng.below(others.len())].clone();
+    if *a == 0 && !with.starts_with(|c: char| c.is_ascii_uppercase()) {
+        return None; // a sentence must still open with a capital, or it joins the one before
+    }
     let text = format!("{}{}{}", &s[..*a], with, &s[*b..]);
     Some(Edit { detail: format!("{} → {}", &s[*a..*b], with), text, kind: (*kind).into() })
 }

@@ -482,11 +482,16 @@ impl<'a> Generator<'a> {
             source: None,
             expect_doc: None,
         };
-        if rng.chance(0.15) {
-            sentences.insert(0, (chatter(&mut rng), None));
-        }
-        if rng.chance(0.12) {
-            sentences.push((chatter(&mut rng), None));
+        // An answer with a citation no marker names gets no chatter: an unmarked sentence
+        // is checked against every citation, and the status must not hang on its score.
+        let unused_extra = markers && rng.chance(0.06);
+        if !unused_extra {
+            if rng.chance(0.15) {
+                sentences.insert(0, (chatter(&mut rng), None));
+            }
+            if rng.chance(0.12) {
+                sentences.push((chatter(&mut rng), None));
+            }
         }
 
         let mut parts = Vec::new();
@@ -545,7 +550,7 @@ impl<'a> Generator<'a> {
                 how: c.how.clone(),
             });
         }
-        if markers && rng.chance(0.06) {
+        if unused_extra {
             let pool = &self.pools[&split];
             for _ in 0..20 {
                 let d = pool[rng.below(pool.len())];

@@ -10,18 +10,23 @@
 //! re-derived by the rule README and `src/support.rs` state (score ≥ supported:
 //! supported; ≥ partial: partial; else unsupported; a number mismatch, or a polarity
 //! mismatch at or above partial, makes it unsupported; a changed term at or above
-//! partial makes a supported sentence partial). That the re-derivation agrees with the
-//! checker is itself checked, at the default values, against the default run; the
-//! disagreements are reported. Only `misattributed`, which depends on `supported` through
-//! the store search, is taken as recorded.
+//! partial makes a supported sentence partial). The checker has rules of its own on top
+//! (the number check where half the words match, the joined-clause rules), which use
+//! window statistics the findings do not record, so the re-derivation is a *screen*: how
+//! often it disagrees with the checker is measured, at the default values, against the
+//! default run and reported, and the best few screened points, with the defaults, are
+//! then run for real on the tuning split; the choice is made on those real runs. Only
+//! `misattributed`, which depends on `supported` through the store search, is taken as
+//! recorded in the screen.
 //!
 //! The objective: the largest F1 of "needs review" on the tuning split, among the points
 //! whose false alarms (verbatim and light edits not supported) stay at or under the
 //! issue's 3 %; ties go to more targets met, then to the point nearest the defaults. Where
 //! no point of the grid reaches 3 % (the false alarms of paraphrases come mostly from the
 //! changed-term and polarity checks, which no threshold moves), the limit becomes the
-//! lowest false-alarm rate of the grid plus half a point, and the run says so: minimising
-//! false alarms alone would pick the lowest thresholds and let every joined clause pass.
+//! lowest false-alarm rate of the screen plus half a point, and the run says so:
+//! minimising false alarms alone would pick the lowest thresholds and let every joined
+//! clause pass.
 
 use std::path::Path;
 
@@ -48,6 +53,8 @@ pub const FUZZY: [f64; 3] = [0.80, 0.85, 0.90];
 pub const WINDOW: [usize; 4] = [1, 2, 3, 4];
 const DEFAULTS: (f64, f64, f64, usize) = (0.75, 0.45, 0.85, 3);
 const FALSE_ALARM_LIMIT: f64 = 3.0;
+/// How many of the best screened points are run for real before the choice.
+const CONFIRM: usize = 4;
 /// Slack over the grid's lowest false-alarm rate when no point reaches the limit.
 const FALSE_ALARM_SLACK: f64 = 0.5;
 
@@ -270,12 +277,64 @@ pub fn run(i: &Inputs<'_>) -> Result<Value, String> {
                 && p.window == DEFAULTS.3
         })
         .cloned();
-    let mut chosen = points[0].clone();
-    for p in &points {
-        if p.better(&chosen, limit) {
-            chosen = p.clone();
+    // Screened by re-derivation; the best few (and the defaults) are then run for real,
+    // and the choice is made on those runs.
+    let mut shortlist: Vec<Point> = Vec::new();
+    let mut rest: Vec<&Point> = points.iter().collect();
+    while shortlist.len() < CONFIRM && !rest.is_empty() {
+        let mut k = 0;
+        for j in 1..rest.len() {
+            if rest[j].better(rest[k], limit) {
+                k = j;
+            }
+        }
+        shortlist.push(rest.remove(k).clone());
+    }
+    if let Some(d) = &default_point {
+        if !shortlist.iter().any(|p| p.distance() < 1e-9) {
+            shortlist.push(d.clone());
         }
     }
+    println!("  confirmed by real runs on the tuning split (screened → real):");
+    let mut confirmed: Vec<(Point, Point)> = Vec::new();
+    for p in shortlist {
+        let cfg = i.work.join("sweep-confirm.toml");
+        std::fs::write(&cfg, config_text(p.supported, p.partial, p.fuzzy, p.window))
+            .map_err(|e| format!("{}: {e}", cfg.display()))?;
+        let out = i.work.join("sweep-findings.json");
+        let (report, _) =
+            crate::check(i.bin, i.store, i.tuning_answers, i.principals, Some(&cfg), &out)?;
+        let reports = vec![report];
+        let found = Found::new(&reports);
+        let scores = score::score("tuning", labels, i.tuning.1, &found);
+        let met = scores
+            .rows
+            .iter()
+            .filter(|r| r.met == Some(true) && r.key != score::CITATIONS_KEY)
+            .count();
+        let real = Point { scores, met, ..p.clone() };
+        println!(
+            "    supported {:.2} partial {:.2} fuzzy {:.2} window {}: F1 {:.3} → {:.3}, false alarms {:.1}% → {:.1}%, targets met {} → {}",
+            p.supported,
+            p.partial,
+            p.fuzzy,
+            p.window,
+            p.scores.review.f1,
+            real.scores.review.f1,
+            p.scores.false_alarm_percent,
+            real.scores.false_alarm_percent,
+            p.met,
+            real.met
+        );
+        confirmed.push((p, real));
+    }
+    let mut chosen = confirmed[0].1.clone();
+    for (_, real) in &confirmed {
+        if real.better(&chosen, limit) {
+            chosen = real.clone();
+        }
+    }
+    let default_real = confirmed.iter().find(|(p, _)| p.distance() < 1e-9).map(|(_, r)| r.clone());
     println!(
         "  chosen: supported {:.2}, partial {:.2}, fuzzy_threshold {:.2}, window_sentences {} (tuning F1 {:.3}, false alarms {:.1}%, {} targets met){}",
         chosen.supported,
@@ -285,7 +344,7 @@ pub fn run(i: &Inputs<'_>) -> Result<Value, String> {
         chosen.scores.review.f1,
         chosen.scores.false_alarm_percent,
         chosen.met,
-        default_point.as_ref().map_or(String::new(), |d| format!(
+        default_real.as_ref().map_or(String::new(), |d| format!(
             "; defaults on tuning: F1 {:.3}, false alarms {:.1}%, {} targets met",
             d.scores.review.f1, d.scores.false_alarm_percent, d.met
         ))
@@ -315,6 +374,7 @@ pub fn run(i: &Inputs<'_>) -> Result<Value, String> {
         "consistency_at_defaults": consistency,
         "best_per_run": runs,
         "default_point": default_point.map(|p| p.json()),
+        "confirmed": confirmed.iter().map(|(p, r)| json!({"screened": p.json(), "real": r.json()})).collect::<Vec<_>>(),
         "chosen": chosen.json(),
         "test_with_chosen": serde_json::to_value(&test).unwrap_or(Value::Null),
         "points": points.iter().map(Point::json).collect::<Vec<_>>(),
