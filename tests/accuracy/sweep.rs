@@ -53,8 +53,8 @@ pub const FUZZY: [f64; 3] = [0.80, 0.85, 0.90];
 pub const WINDOW: [usize; 4] = [1, 2, 3, 4];
 const DEFAULTS: (f64, f64, f64, usize) = (0.75, 0.45, 0.85, 3);
 const FALSE_ALARM_LIMIT: f64 = 3.0;
-/// How many of the best screened points are run for real before the choice.
-const CONFIRM: usize = 4;
+/// How many scorer runs' best screened points are run for real before the choice.
+const CONFIRM: usize = 3;
 /// Slack over the grid's lowest false-alarm rate when no point reaches the limit.
 const FALSE_ALARM_SLACK: f64 = 0.5;
 
@@ -279,16 +279,29 @@ pub fn run(i: &Inputs<'_>) -> Result<Value, String> {
         .cloned();
     // Screened by re-derivation; the best few (and the defaults) are then run for real,
     // and the choice is made on those runs.
+    // The best point of each scorer run, best first; the first few go to real runs.
+    let mut per_run: Vec<Point> = Vec::new();
+    for &fuzzy in &FUZZY {
+        for &window in &WINDOW {
+            let mut best: Option<&Point> = None;
+            for p in points.iter().filter(|p| (p.fuzzy - fuzzy).abs() < 1e-9 && p.window == window)
+            {
+                if best.is_none_or(|b| p.better(b, limit)) {
+                    best = Some(p);
+                }
+            }
+            per_run.extend(best.cloned());
+        }
+    }
     let mut shortlist: Vec<Point> = Vec::new();
-    let mut rest: Vec<&Point> = points.iter().collect();
-    while shortlist.len() < CONFIRM && !rest.is_empty() {
+    while shortlist.len() < CONFIRM && !per_run.is_empty() {
         let mut k = 0;
-        for j in 1..rest.len() {
-            if rest[j].better(rest[k], limit) {
+        for j in 1..per_run.len() {
+            if per_run[j].better(&per_run[k], limit) {
                 k = j;
             }
         }
-        shortlist.push(rest.remove(k).clone());
+        shortlist.push(per_run.remove(k));
     }
     if let Some(d) = &default_point {
         if !shortlist.iter().any(|p| p.distance() < 1e-9) {
