@@ -271,10 +271,15 @@ pub struct Admissible {
 }
 
 impl Admissible {
-    pub fn build(c: &Corpus) -> Admissible {
+    /// The lists for the documents of `splits`.
+    pub fn build(c: &Corpus, splits: &[Split]) -> Admissible {
         let per_doc: Vec<DocAdmissible> = (0..c.docs.len())
             .into_par_iter()
-            .filter(|&d| c.docs[d].pool && !c.docs[d].candidates.is_empty())
+            .filter(|&d| {
+                c.docs[d].pool
+                    && !c.docs[d].candidates.is_empty()
+                    && splits.contains(&c.docs[d].split)
+            })
             .map(|d| {
                 let idents = edits::page_identifiers(&render(c.store.documents[d].visible_text()));
                 let mut out = Vec::new();

@@ -161,7 +161,9 @@ fn run(args: &Args) -> Result<bool, String> {
     println!("{}", extraction.line());
 
     let t = Instant::now();
-    let admissible = Admissible::build(&corpus);
+    let splits: &[Split] =
+        if args.mode == "full" { &[Split::Tuning, Split::Test] } else { &[Split::Test] };
+    let admissible = Admissible::build(&corpus, splits);
     println!("admissible sentences per class found in {:.1}s:", t.elapsed().as_secs_f64());
     for class in generate::Class::ALL {
         let (a, b) = (admissible.count(Split::Tuning, class), admissible.count(Split::Test, class));
