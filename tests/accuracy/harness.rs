@@ -193,8 +193,10 @@ fn run(args: &Args) -> Result<bool, String> {
     let principals = args.work.join("principals.json");
     write(&principals, &generate::principals().to_string())?;
     let mut answers_files = Vec::new();
+    // A CI run writes its own files, so that it leaves a full run's outputs alone.
+    let suffix = if args.mode == "ci" { "-ci" } else { "" };
     for (split, g) in &sets {
-        let name = split.as_str();
+        let name = format!("{}{suffix}", split.as_str());
         let answers = args.work.join(format!("answers-{name}.jsonl"));
         write_lines(&answers, g.answers.iter())?;
         write_lines(&args.work.join(format!("labels-{name}.jsonl")), g.labels.iter().map(to_json))?;
@@ -209,7 +211,7 @@ fn run(args: &Args) -> Result<bool, String> {
     let mut reports: Vec<(Split, Report)> = Vec::new();
     let mut check_seconds = 0.0;
     for (split, answers) in &answers_files {
-        let out = args.work.join(format!("findings-{}.json", split.as_str()));
+        let out = args.work.join(format!("findings-{}{suffix}.json", split.as_str()));
         let (report, secs) =
             check(bin, &args.store, answers, &principals, args.config.as_deref(), &out)?;
         println!("plumbline check on the {} split: {secs:.1}s", split.as_str());
