@@ -190,11 +190,18 @@ pub fn is_identifier(compound: &str) -> bool {
         .chars()
         .zip(compound.chars().skip(1))
         .any(|(a, b)| a.is_lowercase() && b.is_uppercase());
+    // Dotted or slashed names ("config.c", "t.start", "lib/bar"), not abbreviations
+    // ("e.g", "U.S") whose parts are single letters.
     let joined = ['.', '/'].iter().any(|&sep| {
         let parts: Vec<&str> = compound.split(sep).collect();
-        parts.len() > 1 && parts.iter().all(|p| p.chars().count() >= 2)
+        parts.len() > 1
+            && parts.iter().all(|p| !p.is_empty())
+            && parts.iter().any(|p| p.chars().count() >= 2)
     }) || compound.contains("::");
-    letters && (digits || compound.contains('_') || camel || joined)
+    // A keyword or constant in capitals ("SELECT", "PATH"): two letters or more.
+    let caps = compound.chars().filter(|c| c.is_alphabetic()).count() >= 2
+        && compound.chars().all(|c| !c.is_alphabetic() || c.is_uppercase());
+    letters && (digits || compound.contains('_') || camel || joined || caps)
 }
 
 /// Whether the token at `range` of `text` is part of an identifier.
@@ -214,6 +221,9 @@ static CHATTER: LazyLock<Regex> = LazyLock::new(|| {
         // Offers to the user and requests of them.
         r"|(?:just )?(?:tell|let|show|send) me\b|would you like\b",
         r"|if you (?:like|want|wish|prefer),? (?:i|we)(?:'ll| will| can| could)\b",
+        // An offer that ends on the user's wish ("I can show you an example if you like").
+        r"|(?:i|we)(?:'ll| will| can| could| would|'d be happy to| am happy to)\b[^.]*\bif you\b",
+        r"|(?:happy|glad|pleased|delighted) to\b",
         r"|(?:i|we)(?:'ll| will| can| could| would be happy to| am happy to)\b[^.]*\b(?:for you|help you)\b",
         r")"
     ))
@@ -248,10 +258,24 @@ pub fn claim(text: &str) -> Claim {
             .iter()
             .filter(|t| t.is_content())
             .all(|t| t.figure.is_none() && lexicon::is_chatter_stem(&t.stem));
+    // "Here is what I found.", "Here's the short version.": a lead-in, short and naming
+    // nothing; "Fair question!", "Take care!": a short exclamation.
+    let words = tokens.iter().filter(|t| t.figure.is_none()).count();
+    let plain = !ident.iter().any(|&i| i)
+        && tokens.iter().all(|t| t.figure.is_none() && !lexicon::is_negation(&t.text));
+    let lead_in = plain && words <= 8 && {
+        let lower = trimmed.to_lowercase();
+        ["here is ", "here's ", "here’s ", "here are ", "here goes", "alright, here"]
+            .iter()
+            .any(|p| lower.starts_with(p))
+    };
+    let exclamation = plain && words <= 3 && trimmed.ends_with('!');
     let no_claim = no_content
         || heading
         || question
         || filler
+        || lead_in
+        || exclamation
         || CHATTER.is_match(trimmed)
         || LEAD_IN.is_match(trimmed);
     Claim { tokens, breaks, ident, text: text.to_owned(), no_claim }
@@ -351,6 +375,9 @@ pub struct WindowMatch {
     pub word_coverage: f64,
     /// Some clause of the claim is mostly not carried (see `weakest_clause`).
     pub weak_clause: bool,
+    /// Some clause of the claim joins words of two window sentences (see
+    /// `recombined_clause`).
+    pub recombined: bool,
 }
 
 /// Per-unit statistics of the claim's tokens (empty vectors: the unit shares nothing
@@ -453,6 +480,8 @@ pub struct Scorer<'c> {
     content_chars: Vec<usize>,
     /// Fuzzy similarities asked so far.
     memo: FuzzyMemo,
+    /// Whether each content token is part of an identifier (never given fuzzy credit).
+    content_ident: Vec<bool>,
 }
 
 fn score_of(coverage: f64, bigram: f64, order: f64) -> f64 {
@@ -497,7 +526,24 @@ impl<'c> Scorer<'c> {
         }
         let has_figures = content.iter().any(|c| c.figure.is_some());
         let memo = FuzzyMemo::new(p.fuzzy_threshold);
-        Scorer { claim, content, entries, claim_bigrams, has_figures, lcs, content_chars, memo }
+        let content_ident = claim
+            .tokens
+            .iter()
+            .zip(&claim.ident)
+            .filter(|(t, _)| t.is_content())
+            .map(|(_, &i)| i)
+            .collect();
+        Scorer {
+            claim,
+            content,
+            entries,
+            claim_bigrams,
+            has_figures,
+            lcs,
+            content_chars,
+            memo,
+            content_ident,
+        }
     }
 
     fn stats(&self, u: &Unit<'_>) -> UnitStats {
@@ -685,7 +731,7 @@ impl<'c> Scorer<'c> {
             let mut credit = c.credit;
             // Fuzzy credit for words the window lacks (spelling variants, typos).
             for (k, w) in self.content.iter().enumerate() {
-                if credit[k] >= 1.0 || w.figure.is_some() {
+                if credit[k] >= 1.0 || w.figure.is_some() || self.content_ident[k] {
                     continue;
                 }
                 let fuzzy = tokens
@@ -947,12 +993,13 @@ fn inspect(
     let carried: Vec<bool> = claim
         .tokens
         .iter()
-        .map(|c| match &c.figure {
+        .enumerate()
+        .map(|(ci, c)| match &c.figure {
             Some(f) => window.iter().any(|w| w.figure.as_ref().is_some_and(|g| f.is_carried_by(g))),
             None => {
                 window_stems.contains(c.stem.as_str())
                     || synonyms_of(&c.stem).iter().any(|id| window_ids.contains(id))
-                    || (!c.stop && {
+                    || (!c.stop && !claim.ident[ci] && {
                         let chars = c.text.chars().count();
                         window.iter().any(|w| {
                             w.figure.is_none()
@@ -974,6 +1021,7 @@ fn inspect(
     };
     let unmatched_run = longest_run(&claim.tokens, |k| !carried[k]);
     let weak_clause = weakest_clause(claim, &carried);
+    let recombined = recombined_clause(claim, window, ends);
     let matched_run = longest_run(&claim.tokens, |k| carried[k]);
 
     // Matched ranges for highlighting: exact stems or fuzzy credit.
@@ -1046,7 +1094,76 @@ fn inspect(
         matched_run,
         word_coverage,
         weak_clause,
+        recombined,
     }
+}
+
+/// Whether one clause of the claim (between clause marks) takes its words from two
+/// sentences of the window — the subject of one and the predicate of another — rather
+/// than from one: four or more of its words are carried, no single window sentence
+/// carries three quarters of them, and a second sentence carries two or more of the
+/// rest. A claim whose clauses each come from their own sentence is not recombined.
+fn recombined_clause(claim: &Claim, window: &[&Token], ends: &[bool]) -> bool {
+    let mut unit = Vec::with_capacity(window.len());
+    let mut u = 0usize;
+    for k in 0..window.len() {
+        unit.push(u);
+        if ends.get(k).copied().unwrap_or(false) {
+            u += 1;
+        }
+    }
+    let units = unit.last().map_or(0, |&x| x + 1);
+    if units < 2 {
+        return false;
+    }
+    // Window sentences holding each stem id.
+    let mut held: IdMap<u32, Vec<usize>> = IdMap::default();
+    for (k, w) in window.iter().enumerate() {
+        if w.is_content() && w.figure.is_none() {
+            let e = held.entry(w.id).or_default();
+            if !e.contains(&unit[k]) {
+                e.push(unit[k]);
+            }
+        }
+    }
+    let toks = &claim.tokens;
+    let mut start = 0;
+    for k in 0..=toks.len() {
+        if k < toks.len() && (k == start || claim.breaks[k - 1] == Break::None) {
+            continue;
+        }
+        let words: Vec<&Vec<usize>> = (start..k)
+            .filter(|&i| toks[i].is_content() && toks[i].figure.is_none())
+            .filter_map(|i| held.get(&toks[i].id))
+            .collect();
+        start = k;
+        if words.len() < 3 {
+            continue;
+        }
+        let count = |u: usize| words.iter().filter(|us| us.contains(&u)).count();
+        let best = (0..units).max_by_key(|&u| count(u)).unwrap_or(0);
+        // The clause's subject (its first words) only in another sentence than the one
+        // that carries the rest of it.
+        let lead: Vec<&&Vec<usize>> = words.iter().take(2).collect();
+        if count(best) >= 3 && lead.iter().all(|us| !us.contains(&best)) {
+            return true;
+        }
+        if count(best) * 4 >= words.len() * 3 {
+            continue;
+        }
+        if words.len() < 4 {
+            continue;
+        }
+        let rest = (0..units)
+            .filter(|&u| u != best)
+            .map(|u| words.iter().filter(|us| !us.contains(&best) && us.contains(&u)).count())
+            .max()
+            .unwrap_or(0);
+        if rest >= 2 {
+            return true;
+        }
+    }
+    false
 }
 
 /// Words that open a clause of their own after a comma or semicolon.
@@ -1099,7 +1216,8 @@ fn weakest_clause(claim: &Claim, carried: &[bool]) -> bool {
 }
 
 /// LCS alignment of claim and window stems: the matched index pairs.
-fn align(a: &[&Token], b: &[&Token], memo: &FuzzyMemo) -> Vec<(usize, usize)> {
+fn align(sa: &Side<'_>, sb: &Side<'_>, memo: &FuzzyMemo) -> Vec<(usize, usize)> {
+    let (a, b) = (&sa.toks, &sb.toks);
     let (n, m) = (a.len(), b.len());
     let fuzzy = memo.threshold.max(0.9);
     // Which pairs match, decided once (the table and the walk back both ask). Fuzzy
@@ -1108,14 +1226,24 @@ fn align(a: &[&Token], b: &[&Token], memo: &FuzzyMemo) -> Vec<(usize, usize)> {
     let ids_a: HashSet<u32> = a.iter().map(|t| t.id).collect();
     let ids_b: HashSet<u32> = b.iter().map(|t| t.id).collect();
     let mut eq = vec![false; n * m];
-    let b_fuzzy: Vec<bool> =
-        b.iter().map(|y| y.figure.is_none() && !y.stop && !ids_a.contains(&y.id)).collect();
+    // Names are never spelling variants of each other ("ArgumentError" is not
+    // "ArgumentParser"), and figures align only with figures they carry both ways
+    // ("0 bytes" with "0", not with "0 terabytes").
+    let b_fuzzy: Vec<bool> = b
+        .iter()
+        .enumerate()
+        .map(|(j, y)| y.figure.is_none() && !y.stop && !sb.ident[j] && !ids_a.contains(&y.id))
+        .collect();
     for (i, x) in a.iter().enumerate() {
-        let x_fuzzy = x.figure.is_none() && !x.stop && !ids_b.contains(&x.id);
+        let x_fuzzy = x.figure.is_none() && !x.stop && !sa.ident[i] && !ids_b.contains(&x.id);
         let chars = if x_fuzzy { x.text.chars().count() } else { 0 };
         for (j, y) in b.iter().enumerate() {
-            eq[i * m + j] = (x.id == y.id && x.stem == y.stem)
-                || (x.figure.is_some() && y.figure.is_some() && x.text == y.text)
+            let same_figure = match (&x.figure, &y.figure) {
+                (Some(f), Some(g)) => f.is_carried_by(g) && g.is_carried_by(f),
+                _ => false,
+            };
+            eq[i * m + j] = (x.id == y.id && x.stem == y.stem && x.figure.is_none())
+                || same_figure
                 || (x_fuzzy
                     && b_fuzzy[j]
                     && fuzzy_length_ok(chars, &x.text, &y.text)
@@ -1153,9 +1281,20 @@ fn align(a: &[&Token], b: &[&Token], memo: &FuzzyMemo) -> Vec<(usize, usize)> {
 /// Whether token `k` is a negation cue. Bounds written with a negation ("no later
 /// than", "not more than") and "not only" are not: they restate a limit or add to a
 /// claim rather than deny it.
-fn is_cue(toks: &[&Token], k: usize) -> bool {
+fn is_cue(side: &Side<'_>, k: usize) -> bool {
+    let toks = &side.toks;
     let w = toks[k].text.as_str();
     if !is_negation(w) {
+        return false;
+    }
+    // A capital inside a sentence is a literal of code or a keyword ("was None",
+    // "the NONE attribute"), not a negation.
+    let capital = side
+        .text
+        .get(toks[k].start..)
+        .and_then(|t| t.chars().next())
+        .is_some_and(char::is_uppercase);
+    if capital && k > 0 && side.brk[k - 1] != Break::Sentence {
         return false;
     }
     let next = toks.get(k + 1).map(|t| t.text.as_str());
@@ -1196,8 +1335,19 @@ fn is_cue(toks: &[&Token], k: usize) -> bool {
 /// Tokens a negation cue at `k` applies to: up to six that follow it in its clause.
 fn scope(side: &Side<'_>, k: usize) -> Range<usize> {
     let mut end = k + 1;
-    if side.brk[k] != Break::None {
+    if side.brk[k] == Break::Sentence {
         return end..end;
+    }
+    if side.brk[k] == Break::Clause {
+        // "cannot, however, subclass", "that is not (the number …)": the words after the
+        // mark are what is denied.
+        while end < side.toks.len() && end - k <= 4 {
+            end += 1;
+            if side.brk[end - 1] == Break::Sentence {
+                break;
+            }
+        }
+        return k + 1..end;
     }
     // Six words, or on to the first content word ("will not be updated") up to ten.
     while end < side.toks.len()
@@ -1214,7 +1364,7 @@ fn scope(side: &Side<'_>, k: usize) -> Range<usize> {
 
 /// Negation cues of a side with their scopes.
 fn cues(side: &Side<'_>) -> Vec<(usize, Range<usize>)> {
-    (0..side.toks.len()).filter(|&k| is_cue(&side.toks, k)).map(|k| (k, scope(side, k))).collect()
+    (0..side.toks.len()).filter(|&k| is_cue(side, k)).map(|k| (k, scope(side, k))).collect()
 }
 
 /// Whether some cue of `side` covers position `j`: its scope holds `j`, or it stands at
@@ -1258,25 +1408,12 @@ fn crosses_sentence(b: &Side<'_>, from: usize, to: usize) -> bool {
 const EDGE: usize = 8;
 
 /// Content words that frame a sentence rather than say what it claims ("In that case,
-/// request …", "For example, …"): they do not count as a different subject.
-fn is_discourse(stem: &str) -> bool {
-    static STEMS: LazyLock<HashSet<String>> = LazyLock::new(|| {
+/// request …", "For example, …", "However, …"): they do not count as a different
+/// subject. The nouns only in their set phrases, after "in", "for", "as", "on", "by" or
+/// "of" ("The instance may change" names an instance).
+fn is_discourse(side: &Side<'_>, k: usize) -> bool {
+    static ADVERBS: LazyLock<HashSet<String>> = LazyLock::new(|| {
         [
-            "case",
-            "example",
-            "instance",
-            "addition",
-            "general",
-            "fact",
-            "practice",
-            "short",
-            "particular",
-            "note",
-            "summary",
-            "result",
-            "turn",
-            "contrast",
-            "comparison",
             "therefore",
             "thus",
             "hence",
@@ -1304,13 +1441,73 @@ fn is_discourse(stem: &str) -> bool {
             "actually",
             "really",
             "indeed",
+        ]
+        .iter()
+        .map(|w| crate::text::stem::stem(w))
+        .collect()
+    });
+    static NOUNS: LazyLock<HashSet<String>> = LazyLock::new(|| {
+        [
+            "case",
+            "example",
+            "instance",
+            "addition",
+            "general",
+            "fact",
+            "practice",
+            "short",
+            "particular",
+            "summary",
+            "result",
+            "turn",
+            "contrast",
+            "comparison",
             "course",
         ]
         .iter()
         .map(|w| crate::text::stem::stem(w))
         .collect()
     });
-    STEMS.contains(stem)
+    let stem = side.toks[k].stem.as_str();
+    if ADVERBS.contains(stem) {
+        return true;
+    }
+    NOUNS.contains(stem)
+        && (k.saturating_sub(3)..k)
+            .any(|i| matches!(side.toks[i].text.as_str(), "in" | "for" | "as" | "on" | "by" | "of"))
+}
+
+/// Modal verbs and adverbs that shade a claim without naming anything ("will
+/// contain", "actually occurs"): a one-for-one swap of these is rephrasing.
+fn is_light(t: &Token) -> bool {
+    matches!(
+        t.text.as_str(),
+        "will"
+            | "would"
+            | "shall"
+            | "should"
+            | "can"
+            | "could"
+            | "might"
+            | "actually"
+            | "really"
+            | "just"
+            | "also"
+            | "simply"
+            | "still"
+            | "already"
+            | "even"
+            | "very"
+            | "quite"
+            | "rather"
+            | "then"
+            | "now"
+            | "indeed"
+            | "generally"
+            | "usually"
+            | "typically"
+            | "normally"
+    )
 }
 
 /// What aligning a claim with its window found.
@@ -1340,7 +1537,7 @@ fn tight(pairs: &[(usize, usize)], r: usize) -> bool {
 }
 
 fn align_checks(a: &Side<'_>, b: &Side<'_>, memo: &FuzzyMemo) -> Aligned {
-    let pairs = align(&a.toks, &b.toks, memo);
+    let pairs = align(a, b, memo);
     let mut out = Aligned::default();
     if pairs.is_empty() {
         return out;
@@ -1374,13 +1571,29 @@ fn align_checks(a: &Side<'_>, b: &Side<'_>, memo: &FuzzyMemo) -> Aligned {
         let gb = br + 1..sentence_end(br).min(br + 1 + EDGE);
         gaps.push((ar + 1..(ar + 1 + EDGE).min(n), gb, GapAt::Trail));
     }
-    let in_b: HashSet<u32> = b.toks.iter().map(|t| t.id).collect();
-    // Window words the alignment left aside: a claim word among them was moved (a clause
-    // put in another order), not replaced.
+    // Names as written (case matters: "WHERE" the keyword is not "where").
+    let names = |side: &Side<'_>| -> HashSet<String> {
+        (0..side.toks.len()).filter(|&k| side.ident[k]).map(|k| side.shown(k)).collect()
+    };
+    let (names_a, names_b) = (names(a), names(b));
+    // Window words the alignment left aside: a claim word among them, in the same window
+    // sentence, was moved (a clause put in another order), not replaced.
     let aligned_b: HashSet<usize> = pairs.iter().map(|&(_, j)| j).collect();
-    let loose_b: HashSet<u32> =
-        (0..m).filter(|j| !aligned_b.contains(j)).map(|j| b.toks[j].id).collect();
-    let in_a: HashSet<u32> = a.toks.iter().map(|t| t.id).collect();
+    let loose_in = |r: Range<usize>| -> HashSet<u32> {
+        r.filter(|j| !aligned_b.contains(j)).map(|j| b.toks[j].id).collect()
+    };
+    // "non-blocking" against "blocking": the prefix written as a word of its own.
+    let aligned_a: HashSet<usize> = pairs.iter().map(|&(i, _)| i).collect();
+    for &(i, j) in &pairs {
+        let non_a = i > 0 && a.toks[i - 1].text == "non" && !aligned_a.contains(&(i - 1));
+        let non_b = j > 0 && b.toks[j - 1].text == "non" && !aligned_b.contains(&(j - 1));
+        if non_a != non_b {
+            let with = |side: &Side<'_>, k: usize, non: bool| {
+                if non { format!("non-{}", side.shown(k)) } else { side.shown(k) }
+            };
+            out.changed.push(ChangedTerm { claim: with(a, i, non_a), evidence: with(b, j, non_b) });
+        }
+    }
     for (ga, gb, at) in gaps {
         let (ga_len, gb_len) = (ga.len(), gb.len());
         let ga_start = ga.start;
@@ -1399,8 +1612,11 @@ fn align_checks(a: &Side<'_>, b: &Side<'_>, memo: &FuzzyMemo) -> Aligned {
                 }
             }
         }
-        let ca: Vec<usize> = ga.filter(|&k| is_alignable_content(a.toks[k])).collect();
-        let cb: Vec<usize> = gb.filter(|&k| is_alignable_content(b.toks[k])).collect();
+        let window_sentence = sentence_start(gb.start)..sentence_end(gb.end.saturating_sub(1));
+        let ca: Vec<usize> =
+            ga.filter(|&k| is_alignable_content(a.toks[k]) || a.ident[k]).collect();
+        let cb: Vec<usize> =
+            gb.filter(|&k| is_alignable_content(b.toks[k]) || b.ident[k]).collect();
         if ca.is_empty() || cb.is_empty() {
             continue;
         }
@@ -1430,9 +1646,9 @@ fn align_checks(a: &Side<'_>, b: &Side<'_>, memo: &FuzzyMemo) -> Aligned {
         // One identifier for another ("Tier2-Billing" where the source has
         // "Tier2-Dispatch"): names the other side does not hold at all.
         let ia: Vec<usize> =
-            ca.iter().copied().filter(|&k| a.ident[k] && !in_b.contains(&a.toks[k].id)).collect();
+            ca.iter().copied().filter(|&k| a.ident[k] && !names_b.contains(&a.shown(k))).collect();
         let ib: Vec<usize> =
-            cb.iter().copied().filter(|&k| b.ident[k] && !in_a.contains(&b.toks[k].id)).collect();
+            cb.iter().copied().filter(|&k| b.ident[k] && !names_a.contains(&b.shown(k))).collect();
         if !ia.is_empty() && !ib.is_empty() {
             out.changed.push(ChangedTerm { claim: a.shown(ia[0]), evidence: b.shown(ib[0]) });
             continue;
@@ -1447,7 +1663,7 @@ fn align_checks(a: &Side<'_>, b: &Side<'_>, memo: &FuzzyMemo) -> Aligned {
             GapAt::Inner => {
                 if ca.len() == 1 && cb.len() == 1 && ga_len <= 3 && gb_len <= 3 {
                     let (x, y) = (a.toks[ca[0]], b.toks[cb[0]]);
-                    if x.stop == y.stop && !related(x, y) {
+                    if x.stop == y.stop && !related(x, y) && !is_light(x) && !is_light(y) {
                         out.changed
                             .push(ChangedTerm { claim: a.shown(ca[0]), evidence: b.shown(cb[0]) });
                     }
@@ -1459,13 +1675,14 @@ fn align_checks(a: &Side<'_>, b: &Side<'_>, memo: &FuzzyMemo) -> Aligned {
                 let wa: Vec<usize> = ca
                     .iter()
                     .copied()
-                    .filter(|&k| !a.toks[k].stop && !is_discourse(&a.toks[k].stem))
+                    .filter(|&k| !a.toks[k].stop && !is_discourse(a, k))
                     .collect();
                 let wb: Vec<usize> = cb
                     .iter()
                     .copied()
-                    .filter(|&k| !b.toks[k].stop && !is_discourse(&b.toks[k].stem))
+                    .filter(|&k| !b.toks[k].stop && !is_discourse(b, k))
                     .collect();
+                let loose_b = loose_in(window_sentence.clone());
                 let moved = wa.iter().any(|&x| loose_b.contains(&a.toks[x].id));
                 // A clause of its own joined to the claim is judged by the clause rule
                 // (`weakest_clause`), and "that queue" refers back rather than names.
@@ -1475,11 +1692,12 @@ fn align_checks(a: &Side<'_>, b: &Side<'_>, memo: &FuzzyMemo) -> Aligned {
                 }) || (at == GapAt::Lead
                     && span.end > 0
                     && a.brk[span.end - 1] == Break::Clause);
-                let refers_back = span.clone().any(|k| {
-                    matches!(
-                        a.toks[k].text.as_str(),
-                        "this" | "that" | "these" | "those" | "such" | "its" | "their" | "it"
-                    )
+                let refers_back = wa.first().is_some_and(|&k| {
+                    k > 0
+                        && matches!(
+                            a.toks[k - 1].text.as_str(),
+                            "this" | "that" | "these" | "those" | "such" | "its" | "their"
+                        )
                 });
                 if !wa.is_empty()
                     && !wb.is_empty()
@@ -1566,7 +1784,9 @@ pub fn assess(claim: &Claim, best: Option<&WindowMatch>, p: &Params) -> Assessme
     } else if changed_term && verdict == Verdict::Supported {
         verdict = Verdict::Partial;
     } else if verdict == Verdict::Supported
-        && (m.weak_clause || (m.unmatched_run >= JOINED_RUN && m.unmatched_run * 4 >= content))
+        && (m.weak_clause
+            || m.recombined
+            || (m.unmatched_run >= JOINED_RUN && m.unmatched_run * 4 >= content))
     {
         // A clause of its own that the window does not carry, joined to one it does.
         verdict = Verdict::Partial;

@@ -99,6 +99,13 @@ pub const SYNONYM_GROUPS: &[&[&str]] = &[
     &["call", "phone", "ring"],
     &["book", "reserve"],
     &["apply", "pertain"],
+    &["show", "shown", "display", "displayed"],
+    &["give", "given", "provide", "provided"],
+    &["write", "written"],
+    &["choose", "chosen", "select", "selected"],
+    &["take", "taken"],
+    &["can", "able", "capable"],
+    &["regarding", "concerning", "respecting", "respect"],
     // nouns
     &["employee", "staff", "worker", "personnel"],
     &["customer", "client"],
@@ -168,6 +175,9 @@ pub const SYNONYM_GROUPS: &[&[&str]] = &[
     &["warehouse", "depot"],
     // adjectives
     &["big", "large", "huge"],
+    &["bigger", "larger"],
+    &["biggest", "largest"],
+    &["smaller", "littler"],
     &["small", "little", "tiny"],
     &["quick", "fast", "rapid", "speedy"],
     &["slow", "sluggish"],
@@ -184,7 +194,7 @@ pub const SYNONYM_GROUPS: &[&[&str]] = &[
     &["exact", "precise"],
     &["whole", "entire", "complete", "full"],
     &["same", "identical"],
-    &["different", "distinct"],
+    &["different", "distinct", "dissimilar"],
     &["similar", "alike"],
     &["common", "frequent"],
     &["usual", "normal", "typical", "regular"],
@@ -202,7 +212,7 @@ pub const SYNONYM_GROUPS: &[&[&str]] = &[
     &["strange", "odd", "unusual"],
     &["whole", "total"],
     &["enough", "sufficient", "adequate"],
-    &["various", "several", "multiple", "many"],
+    &["various", "several", "multiple", "many", "different", "diverse", "number"],
     &["certain", "sure"],
     &["able", "capable"],
     &["free", "complimentary"],
@@ -506,7 +516,6 @@ pub fn is_negation(word: &str) -> bool {
             | "without"
             | "cannot"
             | "nowhere"
-            | "non"
     ) || word.ends_with("n't")
 }
 

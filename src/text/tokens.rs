@@ -193,13 +193,41 @@ fn scan<'a>(text: &'a str, mut visit: impl FnMut(Item<'a>)) {
             covered = covered.max(f.end);
             visit(Item::Figure(f));
         }
-        if start < covered {
+        if start < covered || is_role_name(text, start, end) {
             continue;
         }
         visit(Item::Word(start, end, &text[start..end]));
     }
     for f in figures {
         visit(Item::Figure(f));
+    }
+}
+
+/// Whether the word at `start..end` of `text` is the name of a reStructuredText role
+/// (`func` in ":func:`open`", `c` and `func` in ":c:func:`malloc`"): markup of
+/// documentation sources, not words of their text.
+fn is_role_name(text: &str, start: usize, end: usize) -> bool {
+    let b = text.as_bytes();
+    if start == 0 || b[start - 1] != b':' || b.get(end) != Some(&b':') {
+        return false;
+    }
+    // After the closing colon: more role parts ("func:") and then a backtick.
+    let mut i = end + 1;
+    loop {
+        match b.get(i) {
+            // Normalisation turns the backtick into an apostrophe.
+            Some(b'`' | b'\'') => return true,
+            Some(c) if c.is_ascii_lowercase() => {
+                while b.get(i).is_some_and(u8::is_ascii_lowercase) {
+                    i += 1;
+                }
+                if b.get(i) != Some(&b':') {
+                    return false;
+                }
+                i += 1;
+            }
+            _ => return false,
+        }
     }
 }
 
@@ -294,6 +322,15 @@ pub fn ascii_alnum_words(s: &str) -> Vec<String> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn rest_role_names_are_markup() {
+        let words: Vec<String> = tokenize("Use :func:`open` or :c:func:`malloc`; note: fine.")
+            .into_iter()
+            .map(|t| t.text)
+            .collect();
+        assert_eq!(words, ["use", "open", "or", "malloc", "note", "fine"]);
+    }
 
     #[test]
     fn tokens_keep_original_ranges() {
