@@ -521,135 +521,25 @@ pub fn is_negation(word: &str) -> bool {
 
 /// Words of conversational filler ("Sure, here is the answer.", "Good luck!", "No
 /// problem."): a sentence whose every content word is one of these claims nothing.
-pub const CHATTER_WORDS: &[&str] = &[
-    "sure",
-    "certainly",
-    "course",
-    "absolutely",
-    "definitely",
-    "happy",
-    "glad",
-    "pleased",
-    "delighted",
-    "help",
-    "helps",
-    "helped",
-    "helpful",
-    "hope",
-    "hopefully",
-    "thanks",
-    "thank",
-    "welcome",
-    "great",
-    "good",
-    "nice",
-    "excellent",
-    "perfect",
-    "wonderful",
-    "awesome",
-    "question",
-    "questions",
-    "answer",
-    "answers",
-    "luck",
-    "problem",
-    "worries",
-    "worry",
-    "anytime",
-    "ask",
-    "asking",
-    "let",
-    "know",
-    "feel",
-    "free",
-    "reach",
-    "anything",
-    "else",
-    "assist",
-    "assistance",
-    "clarify",
-    "clarification",
-    "okay",
-    "ok",
-    "fine",
-    "cheers",
-    "hello",
-    "hi",
-    "hey",
-    "greetings",
-    "morning",
-    "afternoon",
-    "evening",
-    "appreciate",
-    "appreciated",
-    "sorry",
-    "apologies",
-    "apologize",
-    "apologise",
-    "confusion",
-    "understand",
-    "understood",
-    "noted",
-    "see",
-    "hear",
-    "forward",
-    "looking",
-    "explanation",
-    "summary",
-    "overview",
-    "brief",
-    "quick",
-    "short",
-    "info",
-    "information",
-    "details",
-    "detail",
-    "find",
-    "below",
-    "above",
-    "following",
-    "steps",
-    "step",
-    "options",
-    "note",
-    "request",
-    "requests",
-    "assistant",
-    "chat",
-    "talk",
-    "day",
-    "enjoy",
-    "follow",
-    "followup",
-    "best",
-    "regards",
-    "wish",
-    "wishes",
-    "exactly",
-    "indeed",
-    "right",
-    "correct",
-    "yes",
-    "yeah",
-    "yep",
-    "nope",
-    "alright",
-    "thing",
-    "things",
-    "point",
-    "points",
-    "case",
-    "topic",
-    "further",
-    "more",
-    "additional",
-    "specific",
-    "particular",
-    "please",
-    "matter",
-    "welcome",
-    "certain",
-];
+pub const CHATTER_WORDS: &str = "\
+    sure certainly course absolutely definitely happy glad pleased delighted help helps \
+    helped helpful hope hopefully thanks thank welcome great good nice excellent perfect \
+    wonderful awesome question questions answer answers luck problem worries worry anytime \
+    ask asking let know feel free reach anything else assist assistance clarify \
+    clarification okay ok fine cheers hello hi hey greetings morning afternoon evening \
+    appreciate appreciated sorry apologies apologize apologise confusion understand \
+    understood noted see hear forward looking explanation summary overview brief quick \
+    short info information details detail find below above following steps step options \
+    note request requests assistant chat talk day enjoy follow followup best regards wish \
+    wishes exactly indeed right correct yes yeah yep nope alright thing things point points \
+    case topic further more additional specific particular please matter certain pleasure \
+    care fair interesting curious thankful lovely explain elaborate expand rundown recap \
+    gist basics highlights takeaway walk through dig deeper deep dive unclear confusing \
+    clear sense mind touch contact up back later soon again whenever query concern concerns \
+    doubt doubts idea thought thoughts think believe guess suppose say put simply basically \
+    anyway goodbye bye weekend week inconvenience trouble patience feedback ready go goes \
+    going start shall version found says said documentation docs manual guide answered \
+    covered cover covers everything something";
 
 /// The stems of a word and of its regular inflections: Snowball stems some inflected
 /// forms apart from the base ("added" → "ad", "add" → "add"), and a pair must hold
@@ -727,7 +617,7 @@ pub fn quantifier_class(word: &str) -> Option<&'static str> {
 /// Whether a stem is one of the conversational filler words.
 pub fn is_chatter_stem(s: &str) -> bool {
     static STEMS: LazyLock<HashSet<String>> =
-        LazyLock::new(|| CHATTER_WORDS.iter().map(|w| stem(w)).collect());
+        LazyLock::new(|| CHATTER_WORDS.split_whitespace().map(stem).collect());
     STEMS.contains(s)
 }
 
