@@ -439,12 +439,17 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
             joined.iter().map(|(ci, loc)| evidence(ctx, loc, redact_cited(*ci))).collect();
         let mut cited_ev = None;
 
-        // Search the whole store for sentences the citations do not carry.
-        if !claim.no_claim && assessment.verdict != Verdict::Supported {
+        // Search the whole store for sentences the citations do not carry. A window
+        // elsewhere must beat the cited one by the margin, and no score exceeds 1: when
+        // the cited window scores above 1 − margin, nothing can, and the search is skipped.
+        let cited_score = best.as_ref().map_or(0.0, |(_, l)| l.m.score);
+        let margin = ctx.config.support.misattribution_margin;
+        if !claim.no_claim
+            && assessment.verdict != Verdict::Supported
+            && cited_score + margin <= 1.0
+        {
             let cited_docs: Vec<usize> =
                 candidates.iter().filter_map(|&ci| resolved[ci].doc).collect();
-            let cited_score = best.as_ref().map_or(0.0, |(_, l)| l.m.score);
-            let margin = ctx.config.support.misattribution_margin;
             let hits = ctx.index.query(&content_terms(&piece.text), 8);
             let passages: Vec<(usize, Vec<Unit<'_>>)> =
                 hit_passages(ctx, &hits, &cited_docs, p.window_sentences)
