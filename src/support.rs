@@ -718,17 +718,35 @@ impl<'c> Scorer<'c> {
         passage: impl Fn(usize) -> (&'u [Unit<'u>], &'u str),
         cache: &mut TokenCache,
     ) -> Option<(usize, WindowMatch)> {
-        // Tokenise every sentence the shortlist needs once (the cache may already hold
-        // them from another claim of the answer), then work on borrowed tokens.
-        for c in &list.items {
-            let (units, text) = passage(c.tag);
-            fill_tokens(units, text, c.first, c.last, cache);
-        }
         let mut best: Option<(usize, usize, usize, f64, f64)> = None;
+        let beats = |best: &Option<(usize, usize, usize, f64, f64)>, c: &Candidate, score: f64| {
+            match best {
+                None => true,
+                Some((_, bf, bl, bs, _)) => {
+                    let margin = if c.last - c.first > bl - bf { 0.01 } else { 1e-12 };
+                    score > bs + margin || (score > *bs - 1e-12 && c.last - c.first < bl - bf)
+                }
+            }
+        };
         for c in list.items {
+            // Fuzzy credit can only raise a word's credit to 1: a window that could not
+            // win with full credit for every word it lacks is not refined (nor
+            // tokenised).
+            let ceiling: Vec<f64> = c
+                .credit
+                .iter()
+                .zip(&self.content)
+                .zip(&self.content_ident)
+                .map(|((&x, w), &ident)| if w.figure.is_none() && !ident { 1.0 } else { x })
+                .collect();
+            if !beats(&best, &c, score_of(mean(&ceiling), c.bigram, c.order)) {
+                continue;
+            }
             let (units, text) = passage(c.tag);
+            // The cache may already hold these sentences from another claim of the answer.
+            fill_tokens(units, text, c.first, c.last, cache);
             let (tokens, _) = gather_tokens(units, text, c.first, c.last, cache);
-            let mut credit = c.credit;
+            let mut credit = c.credit.clone();
             // Fuzzy credit for words the window lacks (spelling variants, typos).
             for (k, w) in self.content.iter().enumerate() {
                 if credit[k] >= 1.0 || w.figure.is_some() || self.content_ident[k] {
@@ -747,19 +765,13 @@ impl<'c> Scorer<'c> {
             }
             let coverage = mean(&credit);
             let score = score_of(coverage, c.bigram, c.order);
-            let better = match &best {
-                None => true,
-                Some((_, bf, bl, bs, _)) => {
-                    let margin = if c.last - c.first > bl - bf { 0.01 } else { 1e-12 };
-                    score > bs + margin || (score > *bs - 1e-12 && c.last - c.first < bl - bf)
-                }
-            };
-            if better {
+            if beats(&best, &c, score) {
                 best = Some((c.tag, c.first, c.last, score, coverage));
             }
         }
         let (tag, mut first, mut last, score, coverage) = best?;
         let (units, text) = passage(tag);
+        fill_tokens(units, text, first, last, cache);
         // A figure stated once near the window (a date in the line above, a version in
         // the section's first sentence) widens the window to take it in, if every
         // missing figure is within `WIDEN` sentences.

@@ -155,6 +155,19 @@ fn write_answers(path: &Path, n: usize, rng: &mut Rng, docs: &[Vec<String>], voc
     }
 }
 
+/// CPU seconds this process has used (user + system, all threads), from /proc: with
+/// other work on the machine, wall-clock rates understate the code's speed, and answers
+/// per CPU-second do not.
+fn cpu_seconds() -> f64 {
+    let Ok(stat) = std::fs::read_to_string("/proc/self/stat") else { return 0.0 };
+    // Fields after the command name (which is in parentheses and may hold spaces).
+    let rest = stat.rsplit_once(')').map_or("", |(_, r)| r);
+    let f: Vec<&str> = rest.split_whitespace().collect();
+    let ticks = |i: usize| f.get(i).and_then(|v| v.parse::<f64>().ok()).unwrap_or(0.0);
+    // utime and stime are fields 14 and 15 of stat(5); here 11 and 12 after the name.
+    (ticks(11) + ticks(12)) / 100.0
+}
+
 fn peak_rss_mib() -> f64 {
     std::fs::read_to_string("/proc/self/status")
         .ok()
@@ -184,8 +197,10 @@ fn run_scale(docs: usize, answers: usize) {
     let texts: Vec<&str> = store.documents.iter().map(|d| d.visible_text()).collect();
     let raw_bytes: usize = store.documents.iter().map(|d| d.raw().len()).sum();
     let t = Instant::now();
+    let cpu0 = cpu_seconds();
     let index = Index::build(&texts);
     let t_index = t.elapsed().as_secs_f64();
+    let cpu_index = cpu_seconds() - cpu0;
     let mb = raw_bytes as f64 / 1e6;
     println!(
         "store {docs} docs, {mb:.1} MB: load {:.2}s ({:.0} MB/s), index {:.2}s ({:.0} MB/s), load+index {:.0} MB/s, {} sentences",
@@ -196,6 +211,7 @@ fn run_scale(docs: usize, answers: usize) {
         mb / (t_load + t_index),
         index.sentence_count()
     );
+    println!("index: {cpu_index:.2} CPU-s, {:.0} MB per CPU-second", mb / cpu_index.max(1e-9));
     let reader = AnswerReader::with_limits(
         std::io::BufReader::new(std::fs::File::open(&answers_path).expect("open")),
         ReaderLimits::default(),
@@ -213,6 +229,7 @@ fn run_scale(docs: usize, answers: usize) {
     for threads in [1usize, 2] {
         let pool = rayon::ThreadPoolBuilder::new().num_threads(threads).build().expect("pool");
         let t = Instant::now();
+        let cpu0 = cpu_seconds();
         let (sentences, not_supported, broken) = pool.install(|| {
             use rayon::prelude::*;
             list.par_iter()
@@ -240,16 +257,18 @@ fn run_scale(docs: usize, answers: usize) {
         // The generator's citations all resolve; a broken one would mean a broken bench.
         assert_eq!(broken, 0, "synthetic citations must resolve");
         let secs = t.elapsed().as_secs_f64();
+        let cpu = cpu_seconds() - cpu0;
         let rate = list.len() as f64 / secs;
         if threads == 1 {
             base = rate;
         }
         println!(
-            "check {} answers on {threads} thread(s): {secs:.2}s, {rate:.0} answers/s, {:.0} sentences/s ({:.0}% not supported), ×{:.2} vs 1 thread",
+            "check {} answers on {threads} thread(s): {secs:.2}s, {rate:.0} answers/s, {:.0} sentences/s ({:.0}% not supported), ×{:.2} vs 1 thread; {cpu:.2} CPU-s, {:.0} answers per CPU-second",
             list.len(),
             sentences as f64 / secs,
             100.0 * not_supported as f64 / sentences.max(1) as f64,
-            rate / base
+            rate / base,
+            list.len() as f64 / cpu.max(1e-9)
         );
     }
     println!(
