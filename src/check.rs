@@ -256,7 +256,7 @@ fn joint_support<'a>(
             let mut list = Shortlist::default();
             scorer.whole(0, &units, &mut list);
             // A fresh cache: the joint text is temporary, and its address may be reused.
-            let mut own = TokenCache::new();
+            let mut own = TokenCache::default();
             let best_joint = scorer.best(list, |_| (units.as_slice(), joint.as_str()), &mut own);
             let Some((_, m)) = best_joint else {
                 continue;
@@ -349,7 +349,7 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
         answer.citations.iter().map(|c| resolve(ctx.store, c, groups)).collect();
     let mut unit_cache: HashMap<usize, Vec<Unit>> = HashMap::new();
     // Tokens of passage sentences, shared by the answer's claims (texts outlive it).
-    let mut tok_cache = TokenCache::new();
+    let mut tok_cache = TokenCache::default();
     let mut used_by: Vec<Vec<usize>> = vec![Vec::new(); resolved.len()];
     let mut sentences_out = Vec::with_capacity(pieces.len());
 

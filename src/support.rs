@@ -759,7 +759,7 @@ impl<'c> Scorer<'c> {
                             && !t.stop
                             && fuzzy_length_ok(self.content_chars[k], &w.text, &t.text)
                     })
-                    .map(|t| self.memo.get(&w.text, &t.text))
+                    .map(|t| self.memo.get(w, t))
                     .fold(0.0, f64::max);
                 credit[k] = credit[k].max(fuzzy);
             }
@@ -820,25 +820,23 @@ impl FuzzyMemo {
         FuzzyMemo { threshold, map: RefCell::new(IdMap::default()) }
     }
 
-    /// [`similarity_at_least`] of the two words at this memo's threshold (0 below it).
-    fn get(&self, a: &str, b: &str) -> f64 {
-        let mut h: u64 = 0xcbf2_9ce4_8422_2325;
-        for byte in a.bytes().chain([0xff]).chain(b.bytes()) {
-            h ^= u64::from(byte);
-            h = h.wrapping_mul(0x0100_0000_01b3);
-        }
-        if let Some(&v) = self.map.borrow().get(&h) {
+    /// [`similarity_at_least`] of the two words at this memo's threshold (0 below it),
+    /// keyed by the ids of their written forms.
+    fn get(&self, a: &Token, b: &Token) -> f64 {
+        let key = (u64::from(a.text_id) << 32) | u64::from(b.text_id);
+        if let Some(&v) = self.map.borrow().get(&key) {
             return v;
         }
+        let (x, y) = (a.text.as_str(), b.text.as_str());
         // "valid"/"invalid" are close in spelling and opposite in sense.
         let v =
-            if prefix_opposites(a, b) { 0.0 } else { similarity_at_least(a, b, self.threshold) };
-        self.map.borrow_mut().insert(h, v);
+            if prefix_opposites(x, y) { 0.0 } else { similarity_at_least(x, y, self.threshold) };
+        self.map.borrow_mut().insert(key, v);
         v
     }
 
     /// Whether the words are similar at `threshold` (at least this memo's).
-    fn at(&self, a: &str, b: &str, threshold: f64) -> bool {
+    fn at(&self, a: &Token, b: &Token, threshold: f64) -> bool {
         let v = self.get(a, b);
         v > 0.0 && v >= threshold
     }
@@ -849,7 +847,7 @@ const WIDEN: usize = 4;
 
 /// Sentence tokens by the address of the text they are in and their byte range: a cache
 /// that may live as long as the texts (one answer's check), shared by its claims.
-pub type TokenCache = HashMap<(usize, usize, usize), Vec<Token>>;
+pub type TokenCache = IdMap<(usize, usize, usize), Vec<Token>>;
 
 /// The cache key of a unit of `text`.
 fn token_key(text: &str, unit: &Unit<'_>) -> (usize, usize, usize) {
@@ -914,7 +912,7 @@ pub fn best_window(
     let scorer = Scorer::new(claim, p);
     let mut list = Shortlist::default();
     scorer.windows(0, units, p, &mut list);
-    scorer.best(list, |_| (units, text), &mut TokenCache::new()).map(|(_, m)| m)
+    scorer.best(list, |_| (units, text), &mut TokenCache::default()).map(|(_, m)| m)
 }
 
 fn mean(xs: &[f64]) -> f64 {
@@ -1017,7 +1015,7 @@ fn inspect(
                             w.figure.is_none()
                                 && !w.stop
                                 && fuzzy_length_ok(chars, &c.text, &w.text)
-                                && memo.get(&c.text, &w.text) > 0.0
+                                && memo.get(c, w) > 0.0
                         })
                     })
             }
@@ -1059,7 +1057,7 @@ fn inspect(
                     || (w.figure.is_none()
                         && fuzzy_claim.iter().any(|c| {
                             fuzzy_length_ok(c.text.chars().count(), &c.text, &w.text)
-                                && memo.get(&c.text, &w.text) > 0.0
+                                && memo.get(c, w) > 0.0
                         })))
         })
         .map(|w| w.start..w.end)
@@ -1259,7 +1257,7 @@ fn align(sa: &Side<'_>, sb: &Side<'_>, memo: &FuzzyMemo) -> Vec<(usize, usize)> 
                 || (x_fuzzy
                     && b_fuzzy[j]
                     && fuzzy_length_ok(chars, &x.text, &y.text)
-                    && memo.at(&x.text, &y.text, fuzzy));
+                    && memo.at(x, y, fuzzy));
         }
     }
     let same = |i: usize, j: usize| eq[i * m + j];
@@ -1666,7 +1664,7 @@ fn align_checks(a: &Side<'_>, b: &Side<'_>, memo: &FuzzyMemo) -> Aligned {
             continue;
         }
         let related = |x: &Token, y: &Token| {
-            x.stem == y.stem || is_synonym(&x.stem, &y.stem) || memo.get(&x.text, &y.text) > 0.0
+            x.stem == y.stem || is_synonym(&x.stem, &y.stem) || memo.get(x, y) > 0.0
         };
         match at {
             // A one-for-one swap in a short gap counts only between words of one class:

@@ -40,6 +40,9 @@ pub struct Token {
     pub figure: Option<Figure>,
     /// Whether `text` is a stop word.
     pub stop: bool,
+    /// [`term_id`] of `text` itself (not of its stem): a cheap key for comparing the
+    /// written forms of two words.
+    pub text_id: u32,
 }
 
 impl Token {
@@ -246,6 +249,7 @@ pub fn tokenize_normalized(norm: &Normalized) -> Vec<Token> {
             let value = f.value.clone();
             out.push(Token {
                 id: term_id(&value),
+                text_id: term_id(&value),
                 stem: value.clone(),
                 text: value,
                 start: r.start,
@@ -259,6 +263,7 @@ pub fn tokenize_normalized(norm: &Normalized) -> Vec<Token> {
             let (stem, id, stop) = with_word(word, |w| (w.stem.clone(), w.id, w.stop));
             out.push(Token {
                 id,
+                text_id: term_id(word),
                 text: word.to_owned(),
                 stem,
                 start: r.start,
