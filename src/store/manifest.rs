@@ -13,6 +13,8 @@
 //! reported as an [`EntryProblem`] and skipped, and the other entries still apply. Unknown
 //! fields are ignored.
 
+use std::io::Read;
+use std::os::unix::fs::OpenOptionsExt;
 use std::path::{Path, PathBuf};
 
 use serde_json::Value;
@@ -83,13 +85,25 @@ pub struct Manifest {
     pub problems: Vec<EntryProblem>,
 }
 
-/// Reads and checks the manifest at `path`.
-pub fn load(path: &Path) -> Result<Manifest, ManifestError> {
-    let text = std::fs::read_to_string(path).map_err(|e| ManifestError {
-        path: path.to_path_buf(),
-        line: 0,
-        column: 0,
-        message: format!("cannot read: {e}"),
+/// Reads and checks the manifest at `path`, refusing one larger than `max_bytes` (the
+/// store's `limits.max_document_bytes`) or one that is a symbolic link.
+pub fn load(path: &Path, max_bytes: u64) -> Result<Manifest, ManifestError> {
+    let fail =
+        |message: String| ManifestError { path: path.to_path_buf(), line: 0, column: 0, message };
+    let file = std::fs::OpenOptions::new()
+        .read(true)
+        .custom_flags(libc::O_NOFOLLOW | libc::O_NONBLOCK)
+        .open(path)
+        .map_err(|e| fail(format!("cannot read: {e}")))?;
+    let mut bytes = Vec::new();
+    file.take(max_bytes.saturating_add(1))
+        .read_to_end(&mut bytes)
+        .map_err(|e| fail(format!("cannot read: {e}")))?;
+    if bytes.len() as u64 > max_bytes {
+        return Err(fail(format!("larger than limits.max_document_bytes = {max_bytes}; not read")));
+    }
+    let text = String::from_utf8(bytes).map_err(|e| {
+        fail(format!("not UTF-8 (invalid byte at offset {})", e.utf8_error().valid_up_to()))
     })?;
     parse(&text, path)
 }
