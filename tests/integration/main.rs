@@ -9,6 +9,8 @@ mod confinement;
 mod cli;
 mod common;
 mod harness;
+mod invariants;
+mod fuzz_corpus;
 mod oracle_metrics;
 mod paper_examples;
 mod report;
