@@ -25,8 +25,11 @@ use plumbline::text::normalize::normalize;
 use plumbline::text::sentences::{marker_runs, split, uax29};
 use plumbline::text::tokens::{term_id, token_ids, tokenize, word_spans};
 
+/// An invariant check: panics when the input breaks an invariant.
+pub type Check = fn(&[u8]);
+
 /// The fuzz targets, by name: each is one of the functions below.
-pub const TARGETS: &[(&str, fn(&[u8]))] = &[
+pub const TARGETS: &[(&str, Check)] = &[
     ("answers_line", answers_line),
     ("markers", markers),
     ("sentences", sentences),
@@ -194,7 +197,7 @@ pub fn tokens(data: &[u8]) {
     // (U+3360 is NFKC "8点", two words; "½22" is "1⁄222", two figures): ranges are kept
     // at the granularity of the original's grapheme clusters.
     for (i, t) in toks.iter().enumerate() {
-        ordered_spans(&text, &[t.start..t.end], "token");
+        ordered_spans(&text, std::slice::from_ref(&(t.start..t.end)), "token");
         let Some(prev) = i.checked_sub(1).map(|j| &toks[j]) else { continue };
         assert!(t.start >= prev.start && t.end >= prev.end, "tokens out of order at {i}");
         if t.start < prev.end {
