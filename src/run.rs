@@ -750,7 +750,11 @@ fn shows_progress(verbosity: Verbosity) -> bool {
 fn progress_bar(verbosity: Verbosity, total: Option<u64>) -> ProgressBar {
     let target = match verbosity {
         Verbosity::Quiet => return ProgressBar::hidden(),
-        Verbosity::Progress => ProgressDrawTarget::term(console::Term::stderr(), 10),
+        // `term` would hide the bar when stderr is not a terminal, which is exactly when
+        // `--progress` asks for it; a `TermLike` target draws regardless.
+        Verbosity::Progress => {
+            ProgressDrawTarget::term_like_with_hz(Box::new(console::Term::stderr()), 10)
+        }
         Verbosity::Normal if io::stderr().is_terminal() => ProgressDrawTarget::stderr(),
         Verbosity::Normal => return ProgressBar::hidden(),
     };

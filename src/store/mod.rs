@@ -184,6 +184,9 @@ pub enum DeadReason {
     Empty,
     /// No document has this id or path.
     NotFound,
+    /// The file at this path was seen but not read (a link, a file with several hard
+    /// links, too large, not UTF-8); the reason the store gave.
+    Skipped(String),
 }
 
 impl fmt::Display for DeadReason {
@@ -195,6 +198,7 @@ impl fmt::Display for DeadReason {
             }
             DeadReason::Empty => f.write_str("the reference is empty"),
             DeadReason::NotFound => f.write_str("no document of the store has this id or path"),
+            DeadReason::Skipped(why) => write!(f, "the store skipped this file, which {why}"),
         }
     }
 }
@@ -270,7 +274,7 @@ impl Store {
                     problems.push(StoreProblem {
                         path: rel,
                         field: None,
-                        message: "symbolic link: not followed".into(),
+                        message: "is a symbolic link: not followed".into(),
                     });
                 }
                 continue;
@@ -393,7 +397,12 @@ impl Store {
         }
         confine::check(reference).map_err(DeadReason::Escapes)?;
         let key = reference.strip_prefix("./").unwrap_or(reference);
-        let i = *self.by_key.get(key).ok_or(DeadReason::NotFound)?;
+        let Some(&i) = self.by_key.get(key) else {
+            let skipped = self.problems.iter().find(|p| p.field.is_none() && p.path == key);
+            return Err(
+                skipped.map_or(DeadReason::NotFound, |p| DeadReason::Skipped(p.message.clone()))
+            );
+        };
         Ok((i, &self.documents[i]))
     }
 
@@ -431,7 +440,7 @@ fn read_document(
         .open(&f.path)
         .map_err(|e| {
             if e.raw_os_error() == Some(libc::ELOOP) {
-                problem("symbolic link: not followed".into())
+                problem("is a symbolic link: not followed".into())
             } else {
                 problem(format!("cannot read: {e}"))
             }

@@ -9,7 +9,7 @@
 # which needs nightly, and the crate forbids unsafe code anyway). Targets are built in
 # release mode with debug assertions on, as cargo-fuzz does by default.
 #
-# The committed seeds (tests/fuzz/seeds/TARGET) are read, never written; the growing
+# Builds go to target/fuzz/build. The committed seeds (tests/fuzz/seeds/TARGET) are read, never written; the growing
 # corpus lives in target/fuzz/corpus/TARGET and failing inputs in
 # target/fuzz/artifacts/TARGET. An input that breaks an invariant belongs in
 # tests/fuzz/regressions/TARGET/ once the defect is fixed: `cargo test` replays it.
@@ -28,7 +28,7 @@ else
 fi
 
 echo "== building ${#targets[@]} fuzz targets"
-cargo fuzz build "${dir[@]}" --sanitizer none
+cargo fuzz build "${dir[@]}" --sanitizer none --target-dir target/fuzz/build
 
 out=target/fuzz
 mkdir -p "$out/logs"
@@ -42,7 +42,7 @@ for t in "${targets[@]}"; do
   echo "== $t: ${secs}s"
   set +e
   # shellcheck disable=SC2086
-  cargo fuzz run "${dir[@]}" --sanitizer none "$t" "$corpus" "tests/fuzz/seeds/$t" -- \
+  cargo fuzz run "${dir[@]}" --sanitizer none --target-dir target/fuzz/build "$t" "$corpus" "tests/fuzz/seeds/$t" -- \
     -max_total_time="$secs" -timeout=10 -rss_limit_mb=2048 -print_final_stats=1 \
     -artifact_prefix="$artifacts" ${FUZZ_FLAGS:-} >"$log" 2>&1
   rc=$?

@@ -13,6 +13,7 @@ mod invariants;
 mod fuzz_corpus;
 mod oracle_metrics;
 mod paper_examples;
+mod reliability;
 mod report;
 mod stemmer;
 mod uax29;
