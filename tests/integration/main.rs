@@ -6,6 +6,7 @@
 
 mod check;
 mod confinement;
+mod entitlement;
 mod cli;
 mod common;
 mod harness;
