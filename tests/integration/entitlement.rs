@@ -106,9 +106,12 @@ fn no_access_rule_and_no_default_is_access_unknown_whoever_asks() {
 #[test]
 fn unknowns_are_warnings_by_default_and_fail_the_gate_when_listed() {
     let fx = || {
-        store(None)
-            .answer(cites("access", None, Some(&["hr"]), "plain.md"))
-            .answer(cites("principal", Some("u-who"), None, "own.md"))
+        store(None).answer(cites("access", None, Some(&["hr"]), "plain.md")).answer(cites(
+            "principal",
+            Some("u-who"),
+            None,
+            "own.md",
+        ))
     };
     let default = fx().check(&[]);
     assert_eq!(default.code(), 0, "{}", default.stderr());
@@ -134,7 +137,10 @@ fn forbidden_fails_the_gate_and_redaction_withholds_the_text() {
     let secret = "The vault code is 4417 and only finance may know it.\n";
     let fx = Fixture::new()
         .doc("vault.md", secret)
-        .doc("manifest.json", &json!({"documents": [{"path": "vault.md", "access": ["finance"]}]}).to_string())
+        .doc(
+            "manifest.json",
+            &json!({"documents": [{"path": "vault.md", "access": ["finance"]}]}).to_string(),
+        )
         .answer(json!({"id": "a", "groups": ["ops"], "answer": "The vault code is 4417 [1].",
             "citations": [{"ref": "1", "doc": "vault.md"}]}));
     let run = fx.check(&[]);

@@ -96,9 +96,14 @@ impl Fixture {
         p
     }
 
+    /// Writes the answers log and returns its path.
+    pub fn write_answers(&self) -> PathBuf {
+        self.write("answers.jsonl", &(self.answers.join("\n") + "\n"))
+    }
+
     /// Runs `plumbline check` with the fixture's inputs and `extra` arguments.
     pub fn check(&self, extra: &[&str]) -> Run {
-        let answers = self.write("answers.jsonl", &(self.answers.join("\n") + "\n"));
+        let answers = self.write_answers();
         let json = self.dir.path().join("findings.json");
         let mut cmd = Command::new(env!("CARGO_BIN_EXE_plumbline"));
         cmd.arg("check")

@@ -16,5 +16,6 @@ mod oracle_metrics;
 mod paper_examples;
 mod reliability;
 mod report;
+mod report_formats;
 mod stemmer;
 mod uax29;
