@@ -43,10 +43,13 @@ fn cites(id: &str, user: Option<&str>, groups: Option<&[&str]>, doc: &str) -> Va
     a
 }
 
+/// Answer id, user, the record's groups, cited document, expected status.
+type Case<'a> = (&'a str, Option<&'a str>, Option<&'a [&'a str]>, &'a str, &'a str);
+
 #[test]
 fn every_branch_of_the_decision() {
     #[rustfmt::skip]
-    let cases: &[(&str, Option<&str>, Option<&[&str]>, &str, &str)] = &[
+    let cases: &[Case<'_>] = &[
         // id        user            record groups        document       status
         // The document's own access list.
         ("own-rec",  None,           Some(&["hr"]),       "own.md",      "ok"),
