@@ -507,13 +507,12 @@ pub fn read_and_check(
     {
         let mut reader =
             AnswerReader::with_limits(BufReader::with_capacity(1 << 16, &mut hashing), limits);
-        const BATCH: usize = 1024;
         loop {
             if is_interrupted() {
                 progress.abandon();
                 return Ok(None);
             }
-            let batch: Vec<_> = reader.by_ref().take(BATCH).collect();
+            let batch = next_batch(&mut reader);
             if batch.is_empty() {
                 break;
             }
@@ -598,6 +597,38 @@ pub fn read_and_check(
         },
         used,
     }))
+}
+
+/// Most answers checked together, in parallel, before their findings are spooled.
+const BATCH: usize = 1024;
+
+/// Most text (answers, questions, quotes, in bytes) in one batch: with lines of up to
+/// `limits.max_line_bytes` (8 MiB by default), 1,024 of them at once would hold gigabytes,
+/// while a batch that stops here holds a few lines' worth. A single line over it still
+/// forms a batch of its own.
+const BATCH_TEXT_BYTES: usize = 16 << 20;
+
+/// The next batch of read items: up to [`BATCH`] of them, or fewer once their text
+/// reaches [`BATCH_TEXT_BYTES`].
+fn next_batch<R: BufRead>(
+    reader: &mut AnswerReader<R>,
+) -> Vec<Result<crate::answers::Answer, crate::answers::Rejected>> {
+    let mut batch = Vec::new();
+    let mut bytes = 0usize;
+    while batch.len() < BATCH && bytes < BATCH_TEXT_BYTES {
+        let Some(item) = reader.next() else { break };
+        if let Ok(a) = &item {
+            bytes += a.answer.len()
+                + a.question.as_ref().map_or(0, String::len)
+                + a.approved_answer.as_ref().map_or(0, String::len)
+                + a.citations
+                    .iter()
+                    .map(|c| c.quote.as_ref().map_or(0, String::len))
+                    .sum::<usize>();
+        }
+        batch.push(item);
+    }
+    batch
 }
 
 /// The findings document around the given answers and rejected lines (which may be left

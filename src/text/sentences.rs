@@ -142,16 +142,20 @@ pub fn split(text: &str) -> Vec<Range<usize>> {
     let markers = marker_runs(text);
     // Boundaries between segments, adjusted and filtered.
     let mut bounds: Vec<usize> = base.iter().skip(1).map(|r| r.start).collect();
+    // Marker runs are in order and do not overlap, so each lookup is a binary search
+    // (a scan per boundary would make a long answer quadratic).
     for b in &mut bounds {
         // A boundary inside a marker run moves to its end.
-        if let Some(m) = markers.iter().find(|m| m.start < *b && *b < m.end) {
+        let k = markers.partition_point(|m| m.start < *b);
+        if let Some(m) = k.checked_sub(1).map(|k| &markers[k]).filter(|m| *b < m.end) {
             *b = m.end;
         }
         // A segment that opens with a marker run gives it to the sentence before.
         let rest = &text[*b..];
         let lead = rest.len() - rest.trim_start_matches([' ', '\t']).len();
-        if let Some(m) = markers.iter().find(|m| m.start == *b + lead) {
-            *b = m.end;
+        let at = *b + lead;
+        if let Ok(k) = markers.binary_search_by_key(&at, |m| m.start) {
+            *b = markers[k].end;
         }
     }
     bounds.dedup();
