@@ -48,10 +48,42 @@ impl Rng {
 }
 
 const WORDS: &[&str] = &[
-    "claims", "stay", "open", "days", "purchase", "refund", "agents", "window", "closed",
-    "warranty", "parcel", "depot", "rota", "shift", "leave", "allowance", "manager", "approve",
-    "request", "form", "ticket", "customer", "supplier", "invoice", "payment", "month", "week",
-    "north", "south", "store", "stock", "order", "return", "label", "courier", "weekend",
+    "claims",
+    "stay",
+    "open",
+    "days",
+    "purchase",
+    "refund",
+    "agents",
+    "window",
+    "closed",
+    "warranty",
+    "parcel",
+    "depot",
+    "rota",
+    "shift",
+    "leave",
+    "allowance",
+    "manager",
+    "approve",
+    "request",
+    "form",
+    "ticket",
+    "customer",
+    "supplier",
+    "invoice",
+    "payment",
+    "month",
+    "week",
+    "north",
+    "south",
+    "store",
+    "stock",
+    "order",
+    "return",
+    "label",
+    "courier",
+    "weekend",
 ];
 
 fn sentence(rng: &mut Rng) -> String {
@@ -76,7 +108,8 @@ fn write_store(dir: &Path, rng: &mut Rng, docs: usize) -> Vec<Vec<String>> {
         std::fs::write(dir.join(format!("doc-{d:02}.md")), sents.join(" ") + "\n").expect("doc");
         all.push(sents);
     }
-    std::fs::write(dir.join("manifest.json"), r#"{"default_access": ["staff"]}"#).expect("manifest");
+    std::fs::write(dir.join("manifest.json"), r#"{"default_access": ["staff"]}"#)
+        .expect("manifest");
     all
 }
 
@@ -89,11 +122,15 @@ fn q(s: &str) -> String {
 fn write_log(path: &Path, rng: &mut Rng, docs: &[Vec<String>], target: u64) -> (u64, u64) {
     let mut out = BufWriter::with_capacity(1 << 20, std::fs::File::create(path).expect("log"));
     let (mut bytes, mut lines) = (0u64, 0u64);
-    let context_pool: Vec<String> = (0..64).map(|_| (0..40).map(|_| sentence(rng)).collect::<Vec<_>>().join(" ")).collect();
+    let context_pool: Vec<String> =
+        (0..64).map(|_| (0..40).map(|_| sentence(rng)).collect::<Vec<_>>().join(" ")).collect();
     while bytes < target {
         lines += 1;
         let line = if lines % 20_000 == 0 {
-            format!(r#"{{"id": "huge-{lines}", "answer": "{}", "citations": []}}"#, "x".repeat(9 << 20))
+            format!(
+                r#"{{"id": "huge-{lines}", "answer": "{}", "citations": []}}"#,
+                "x".repeat(9 << 20)
+            )
         } else if lines % 5_000 == 0 {
             "{\"id\": \"broken\", \"answer\": ".to_owned()
         } else {
@@ -104,17 +141,25 @@ fn write_log(path: &Path, rng: &mut Rng, docs: &[Vec<String>], target: u64) -> (
                 let d = rng.below(docs.len());
                 if rng.below(3) == 0 {
                     let off: usize = docs[d][..10].iter().map(|s| s.len() + 1).sum();
-                    cites.push(format!(r#"{{"ref": "{}", "doc": "doc-{d:02}.md", "start": {off}, "end": {}}}"#, c + 1, off + 400));
+                    cites.push(format!(
+                        r#"{{"ref": "{}", "doc": "doc-{d:02}.md", "start": {off}, "end": {}}}"#,
+                        c + 1,
+                        off + 400
+                    ));
                 } else {
                     cites.push(format!(r#"{{"ref": "{}", "doc": "doc-{d:02}.md"}}"#, c + 1));
                 }
-                let s = if rng.below(4) == 0 { sentence(rng) } else { docs[d][rng.below(30)].clone() };
+                let s =
+                    if rng.below(4) == 0 { sentence(rng) } else { docs[d][rng.below(30)].clone() };
                 text.push(format!("{} [{}]", s.trim_end_matches('.'), c + 1) + ".");
             }
             if rng.below(2) == 0 {
                 text.push("Is there anything else I can help with?".into());
             }
-            let context: String = (0..1 + rng.below(7)).map(|_| context_pool[rng.below(64)].as_str()).collect::<Vec<_>>().join("\n\n");
+            let context: String = (0..1 + rng.below(7))
+                .map(|_| context_pool[rng.below(64)].as_str())
+                .collect::<Vec<_>>()
+                .join("\n\n");
             format!(
                 r#"{{"id": "a-{lines}", "user": "u-{}", "groups": ["staff"], "question": {}, "answer": {}, "citations": [{}], "context": {}}}"#,
                 rng.below(500),
@@ -172,7 +217,8 @@ fn counts(stderr: &str) -> (u64, u64, u64) {
 }
 
 fn main() {
-    let mib: u64 = std::env::var("PLUMBLINE_STREAM_MIB").ok().and_then(|v| v.parse().ok()).unwrap_or(1024);
+    let mib: u64 =
+        std::env::var("PLUMBLINE_STREAM_MIB").ok().and_then(|v| v.parse().ok()).unwrap_or(1024);
     let tmp = tempfile::tempdir_in(env!("CARGO_TARGET_TMPDIR")).expect("temp dir");
     let mut rng = Rng(0x5EED_2026);
     let store = tmp.path().join("store");
@@ -189,9 +235,15 @@ fn main() {
         let m = run(&store, &log, &json, "a-7");
         let (checked, rejected, read) = counts(&m.stderr);
         assert_eq!(checked + rejected, read, "counts add up");
-        let findings_mib = std::fs::metadata(&json).map(|m| m.len()).unwrap_or(0) as f64 / 1048576.0;
-        let head = std::fs::read_to_string(&json).map(|t| t.chars().take(200_000).collect::<String>()).unwrap_or_default();
-        assert!(head.contains("\"internal_errors\": 0"), "the release binary has no failure switch");
+        let findings_mib =
+            std::fs::metadata(&json).map(|m| m.len()).unwrap_or(0) as f64 / 1048576.0;
+        let head = std::fs::read_to_string(&json)
+            .map(|t| t.chars().take(200_000).collect::<String>())
+            .unwrap_or_default();
+        assert!(
+            head.contains("\"internal_errors\": 0"),
+            "the release binary has no failure switch"
+        );
         println!(
             "log {:>7.1} MiB, {lines:>7} lines (written in {gen_s:.1} s): {checked} answers checked, {rejected} rejected, \
              {:.1} s, {:.1} MiB/s, {:.0} answers/s, peak RSS {:.0} MiB, findings {:.0} MiB",

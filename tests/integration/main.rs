@@ -14,6 +14,7 @@ mod invariants;
 mod fuzz_corpus;
 mod oracle_metrics;
 mod paper_examples;
+mod properties;
 mod reliability;
 mod report;
 mod report_formats;
