@@ -877,11 +877,19 @@ pub fn write_outputs(report: &Report, outputs: &Outputs) -> Result<bool> {
 fn write_json_streamed(head: &Report, spooled: Spooled, json: Option<&Path>) -> Result<bool> {
     let Some(path) = json else { return Ok(!is_interrupted()) };
     let Spooled { answers, rejected } = spooled;
+    // Writing a large findings file takes a while: an interruption stops it between
+    // answers (the staged file is then removed).
+    let stop = |item| if is_interrupted() { Err(io::Error::other("interrupted")) } else { item };
     let mut staging = Staging::default();
-    staging.add(path, move |w| {
-        report::json::write_streamed(w, head, answers.replay()?, rejected.replay()?)
-    })?;
-    staging.commit()
+    let staged = staging.add(path, move |w| {
+        let answers = answers.replay()?.map(stop);
+        report::json::write_streamed(w, head, answers, rejected.replay()?)
+    });
+    match staged {
+        Err(_) if is_interrupted() => Ok(false),
+        Err(e) => Err(e),
+        Ok(()) => staging.commit(),
+    }
 }
 
 /// The terminal summary on stderr.
