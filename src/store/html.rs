@@ -674,6 +674,24 @@ mod tests {
         assert_eq!(text("price <€5 here"), "price <€5 here");
     }
 
+    /// Regression (found by the `extract_html` fuzz target): in a title, the LF of a CRLF
+    /// was left over after the CR's newline, and the text after it mapped onto the wrong
+    /// bytes, its last word onto none.
+    #[test]
+    fn crlf_before_text_the_tokenizer_reads_ahead() {
+        for raw in ["<title>\r\n</p", "<title>a\r\n</x b</title>", "<textarea>\r\n</t y"] {
+            let ex = extract(Format::Html, raw);
+            words_map_back(raw, &ex);
+            monotone(&ex, raw);
+            for word in ["p", "x", "b", "t", "y"] {
+                if let Some(v) = ex.text.rfind(word) {
+                    let (fs, fe) = (ex.map.to_file(v), ex.map.to_file_end(v + 1));
+                    assert_eq!(&raw[fs..fe], word, "{raw:?}: {word:?} maps to {fs}..{fe}");
+                }
+            }
+        }
+    }
+
     #[test]
     fn scripts_styles_comments_templates_noscript_dropped() {
         let raw = "<p>a</p><script>if (a<b) { document.write('</p>x') }</script>\

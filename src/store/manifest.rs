@@ -178,6 +178,11 @@ fn entry(index: usize, d: &Value) -> Result<Entry, (String, String)> {
         err("path", format!("{path:?} {e}; the entry is skipped and the path never read"))
     })?;
     let path = confine::normalize(path).ok_or_else(|| err("path", "empty path".into()))?;
+    // Dropping `.` and empty components can make a new form (`./c:/x.md` is `c:/x.md`):
+    // the canonical path must pass too.
+    confine::check(&path).map_err(|e| {
+        err("path", format!("{path:?} {e}; the entry is skipped and the path never read"))
+    })?;
     let id = match obj.get("id") {
         None | Some(Value::Null) => None,
         Some(Value::String(s)) if s.is_empty() => return Err(err("id", "empty".into())),
@@ -256,6 +261,16 @@ mod tests {
         assert_eq!(m.entries[0].id.as_deref(), Some("hr/leave"));
         assert_eq!(m.entries[0].chunks, [ChunkSpec { id: "c1".into(), start: 0, end: 10 }]);
         assert!(m.problems.is_empty());
+    }
+
+    /// Regression (found by the `manifest` fuzz target): `./x:/y.md` passed the check,
+    /// and its canonical form `x:/y.md` is a drive path that a citation may not name.
+    #[test]
+    fn the_canonical_path_is_checked_too() {
+        let m = p(r#"{"documents": [{"path": "./x:/y.md"}, {"path": ".//c:x.md"},
+            {"path": "./ok.md"}]}"#);
+        assert_eq!(m.entries.iter().map(|e| e.path.as_str()).collect::<Vec<_>>(), ["ok.md"]);
+        assert_eq!(m.problems.iter().map(|p| p.entry).collect::<Vec<_>>(), [0, 1]);
     }
 
     #[test]
