@@ -357,7 +357,13 @@ fn decode_entities(s: &str) -> String {
             .bytes()
             .take_while(|b| if hex { b.is_ascii_hexdigit() } else { b.is_ascii_digit() })
             .count();
-        let value = u32::from_str_radix(&digits[..n.min(8)], if hex { 16 } else { 10 }).ok();
+        // Leading zeros do not count (`&#000081;` is `Q`); a value past U+10FFFF is U+FFFD.
+        let significant = digits[..n].trim_start_matches('0');
+        let value = if significant.len() > 8 {
+            Some(u32::MAX)
+        } else {
+            u32::from_str_radix(significant, if hex { 16 } else { 10 }).ok().or(Some(0))
+        };
         match value.filter(|_| n > 0) {
             Some(v) => {
                 out.push(char::from_u32(v).filter(|&c| c != '\0').unwrap_or('\u{fffd}'));
