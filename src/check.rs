@@ -309,9 +309,13 @@ fn pieces(answer: &str, markers: &[Marker], known: &[&str]) -> Vec<Piece> {
     sentences::split(answer)
         .into_iter()
         .map(|span| {
-            let inside: Vec<Marker> = markers
+            // Markers are in order: only those from the first at or after the sentence's
+            // start can lie inside it (a scan of all of them per sentence is quadratic).
+            let first = markers.partition_point(|m| m.start < span.start);
+            let inside: Vec<Marker> = markers[first..]
                 .iter()
-                .filter(|m| m.start >= span.start && m.end <= span.end)
+                .take_while(|m| m.start < span.end)
+                .filter(|m| m.end <= span.end)
                 .map(|m| Marker {
                     start: m.start - span.start,
                     end: m.end - span.start,

@@ -21,7 +21,7 @@
 //!   "config": { effective settings, see config.rs },
 //!   "summary": Summary,
 //!   "answers": [AnswerFindings],
-//!   "rejected": [{"line", "error"}],
+//!   "rejected": [{"line", "error", "internal_error_in"?}],
 //!   "decisions": {"applied", "stale": [Decision]}
 //! }
 //! ```
@@ -428,13 +428,26 @@ pub struct Inputs {
     pub store: StoreRecord,
 }
 
-/// A line of the answers file that could not be read as an answer.
+/// A line of the answers file that could not be read as an answer, or an answer whose
+/// check failed internally.
 #[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
 pub struct RejectedLine {
     /// 1-based line number.
     pub line: usize,
     /// Why, naming the field.
     pub error: String,
+    /// Set only for an answer that was read but could not be checked because of an
+    /// internal error (a defect of plumbline): the answer's id. Such an entry fails the
+    /// gate whatever `gate.allow_rejected_lines` says.
+    #[serde(skip_serializing_if = "Option::is_none", default)]
+    pub internal_error_in: Option<String>,
+}
+
+impl RejectedLine {
+    /// A line that could not be read as an answer.
+    pub fn unreadable(line: usize, error: impl Into<String>) -> RejectedLine {
+        RejectedLine { line, error: error.into(), internal_error_in: None }
+    }
 }
 
 /// Counts of one run.
@@ -446,6 +459,10 @@ pub struct Summary {
     pub answers_checked: usize,
     /// Lines rejected (`answers_checked + lines_rejected = lines_read`).
     pub lines_rejected: usize,
+    /// Of the lines rejected, answers whose check failed internally (a defect of
+    /// plumbline, never the input's fault); any fails the gate.
+    #[serde(default)]
+    pub internal_errors: usize,
     /// Answers that pass the gate.
     pub answers_passed: usize,
     /// Answers that fail it.

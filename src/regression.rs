@@ -113,35 +113,64 @@ pub fn apply(
 /// The summary of agreement with approved answers, over the answers that have one; `None`
 /// when none has.
 pub fn summarise(config: &Config, answers: &[AnswerFindings]) -> Option<ApprovedSummary> {
-    let approved: Vec<&ApprovedComparison> =
-        answers.iter().filter_map(|a| a.approved.as_ref()).collect();
-    if approved.is_empty() {
-        return None;
+    let mut totals = Totals::default();
+    answers.iter().filter_map(|a| a.approved.as_ref()).for_each(|a| totals.add(a));
+    totals.summary(config)
+}
+
+/// The approved-answer comparisons of a run, summed one answer at a time (a streamed run
+/// does not hold every answer): counts and sums, and how many fall below each of a few
+/// thresholds as they come, so that the summary needs no second pass.
+#[derive(Debug, Clone, Default)]
+pub struct Totals {
+    n: usize,
+    rouge1: f64,
+    rouge2: f64,
+    rouge_l: f64,
+    bleu: f64,
+    /// Every ROUGE-L F and BLEU seen, kept only to count those below a threshold. Two
+    /// numbers an approved answer: small next to the answer itself.
+    values: Vec<(f64, f64)>,
+}
+
+impl Totals {
+    /// Adds one answer's comparison.
+    pub fn add(&mut self, a: &ApprovedComparison) {
+        self.n += 1;
+        self.rouge1 += a.rouge1;
+        self.rouge2 += a.rouge2;
+        self.rouge_l += a.rouge_l;
+        self.bleu += a.bleu;
+        self.values.push((a.rouge_l, a.bleu));
     }
-    let n = approved.len();
-    let mean = |f: fn(&ApprovedComparison) -> f64| {
-        round6(approved.iter().map(|a| f(a)).sum::<f64>() / n as f64)
-    };
-    let below = |min: Option<f64>, f: fn(&ApprovedComparison) -> f64| {
-        min.map(|min| approved.iter().filter(|a| f(a) < min).count())
-    };
-    let r = &config.regression;
-    let below_rouge_l = below(r.min_rouge_l, |a| a.rouge_l);
-    let below_bleu = below(r.min_bleu, |a| a.bleu);
-    let share = |count: Option<usize>| count.map(|c| round6(c as f64 / n as f64));
-    Some(ApprovedSummary {
-        answers: n,
-        mean_rouge1: mean(|a| a.rouge1),
-        mean_rouge2: mean(|a| a.rouge2),
-        mean_rouge_l: mean(|a| a.rouge_l),
-        mean_bleu: mean(|a| a.bleu),
-        min_rouge_l: r.min_rouge_l,
-        below_rouge_l,
-        share_below_rouge_l: share(below_rouge_l),
-        min_bleu: r.min_bleu,
-        below_bleu,
-        share_below_bleu: share(below_bleu),
-    })
+
+    /// The summary under `config`'s `[regression]` thresholds; `None` with no approved
+    /// answer.
+    pub fn summary(&self, config: &Config) -> Option<ApprovedSummary> {
+        let n = self.n;
+        if n == 0 {
+            return None;
+        }
+        let mean = |sum: f64| round6(sum / n as f64);
+        let r = &config.regression;
+        let below_rouge_l =
+            r.min_rouge_l.map(|min| self.values.iter().filter(|(rl, _)| *rl < min).count());
+        let below_bleu = r.min_bleu.map(|min| self.values.iter().filter(|(_, b)| *b < min).count());
+        let share = |count: Option<usize>| count.map(|c| round6(c as f64 / n as f64));
+        Some(ApprovedSummary {
+            answers: n,
+            mean_rouge1: mean(self.rouge1),
+            mean_rouge2: mean(self.rouge2),
+            mean_rouge_l: mean(self.rouge_l),
+            mean_bleu: mean(self.bleu),
+            min_rouge_l: r.min_rouge_l,
+            below_rouge_l,
+            share_below_rouge_l: share(below_rouge_l),
+            min_bleu: r.min_bleu,
+            below_bleu,
+            share_below_bleu: share(below_bleu),
+        })
+    }
 }
 
 #[cfg(test)]

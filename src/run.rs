@@ -19,6 +19,7 @@ use std::fs::File;
 use std::io::{self, BufRead, BufReader, IsTerminal, Read, Write};
 use std::panic::{AssertUnwindSafe, catch_unwind};
 use std::path::{Path, PathBuf};
+use std::sync::atomic::{AtomicBool, Ordering};
 use std::time::{Duration, Instant, SystemTime, UNIX_EPOCH};
 
 use anyhow::{Context as _, Result};
@@ -27,7 +28,7 @@ use rayon::prelude::*;
 use sha2::{Digest, Sha256};
 
 use crate::access::{self, Principals};
-use crate::answers::{AnswerReader, ReaderLimits};
+use crate::answers::{AnswerReader, ReaderLimits, json_quote};
 use crate::check::{Checked, Context, check_answer};
 use crate::cli::{Outcome, UsageError};
 use crate::config::Config;
@@ -37,6 +38,7 @@ use crate::findings::{
     Report, ShardRecord, StoreProblemRecord, StoreRecord, Summary, Tool, Verdict, round6,
 };
 use crate::report;
+use crate::report::spool::Spool;
 pub use crate::shard::Shard;
 use crate::store::index::Index;
 use crate::store::{Store, StoreLimits};
@@ -204,30 +206,52 @@ pub fn load(inputs: &RunInputs) -> Result<Loaded> {
     Ok(Loaded { config, store, index, principals, decisions, store_seconds })
 }
 
-/// Counts, gate and the rest of the summary from the checked answers.
-pub fn summarise(
-    config: &Config,
-    answers: &[AnswerFindings],
-    rejected: &[RejectedLine],
-    lines_read: usize,
-) -> Summary {
-    let mut s = Summary {
-        lines_read,
-        answers_checked: answers.len(),
-        lines_rejected: rejected.len(),
-        ..Summary::default()
-    };
-    for v in Verdict::ALL {
-        s.verdicts.insert(v.as_str().into(), 0);
+/// The summary's counts, gathered one answer and one rejected line at a time, so that a
+/// run need not hold every answer's findings to summarise them.
+#[derive(Debug, Clone)]
+pub struct Tally {
+    s: Summary,
+    rouge_l: f64,
+    bleu: f64,
+    approved: usize,
+    gate_kinds: BTreeMap<String, usize>,
+    /// The approved-answer comparisons, summed as they come (`regression::Totals`).
+    regression: crate::regression::Totals,
+}
+
+impl Default for Tally {
+    fn default() -> Self {
+        Tally::new()
     }
-    for f in Flag::ALL {
-        s.flags.insert(f.as_str().into(), 0);
+}
+
+impl Tally {
+    /// Every verdict, flag and citation status at zero.
+    pub fn new() -> Tally {
+        let mut s = Summary::default();
+        for v in Verdict::ALL {
+            s.verdicts.insert(v.as_str().into(), 0);
+        }
+        for f in Flag::ALL {
+            s.flags.insert(f.as_str().into(), 0);
+        }
+        for st in crate::findings::CitationStatus::ALL {
+            s.citations.insert(st.as_str().into(), 0);
+        }
+        Tally {
+            s,
+            rouge_l: 0.0,
+            bleu: 0.0,
+            approved: 0,
+            gate_kinds: BTreeMap::new(),
+            regression: crate::regression::Totals::default(),
+        }
     }
-    for st in crate::findings::CitationStatus::ALL {
-        s.citations.insert(st.as_str().into(), 0);
-    }
-    let (mut rl, mut bl, mut napproved) = (0.0, 0.0, 0usize);
-    for a in answers {
+
+    /// Counts one checked answer.
+    pub fn answer(&mut self, a: &AnswerFindings) {
+        let s = &mut self.s;
+        s.answers_checked += 1;
         if a.passed {
             s.answers_passed += 1;
         } else {
@@ -252,69 +276,187 @@ pub fn summarise(
             }
             if f.gate {
                 s.gate_failures += 1;
+                *self.gate_kinds.entry(f.kind.clone()).or_default() += 1;
             }
             if f.kind == "forbidden" || f.kind == "restricted_match" {
                 s.entitlement_breaches += 1;
             }
         }
         if let Some(ap) = &a.approved {
-            rl += ap.rouge_l;
-            bl += ap.bleu;
-            napproved += 1;
+            self.regression.add(ap);
+            self.rouge_l += ap.rouge_l;
+            self.bleu += ap.bleu;
+            self.approved += 1;
         }
     }
-    if napproved > 0 {
-        s.approved_mean_rouge_l = Some(round6(rl / napproved as f64));
-        s.approved_mean_bleu = Some(round6(bl / napproved as f64));
-    }
-    s.approved = crate::regression::summarise(config, answers);
-    let mut reasons = Vec::new();
-    if s.answers_failed > 0 {
-        let mut kinds: BTreeMap<&str, usize> = BTreeMap::new();
-        for f in answers.iter().flat_map(|a| a.findings.iter()).filter(|f| f.gate) {
-            *kinds.entry(f.kind.as_str()).or_default() += 1;
+
+    /// Counts one rejected line.
+    pub fn rejected(&mut self, r: &RejectedLine) {
+        self.s.lines_rejected += 1;
+        if r.internal_error_in.is_some() {
+            self.s.internal_errors += 1;
         }
-        let list: Vec<String> = kinds.iter().map(|(k, n)| format!("{k} ×{n}")).collect();
-        reasons.push(format!(
-            "{} of {} answers fail the gate (fail_on = [{}], max_unsupported = {}): {}",
-            s.answers_failed,
-            s.answers_checked,
-            config.gate.fail_on.join(", "),
-            config.gate.max_unsupported,
-            list.join(", ")
-        ));
     }
-    if !rejected.is_empty() && !config.gate.allow_rejected_lines {
-        reasons.push(format!(
-            "{} line(s) of the answers file could not be read (allow_rejected_lines = false)",
-            rejected.len()
-        ));
+
+    /// The summary, with the gate decided under `config`.
+    ///
+    /// An answer whose check failed internally always fails the gate: its line was read
+    /// but not checked, so a pass would vouch for an answer nobody looked at, and
+    /// `allow_rejected_lines` only forgives lines the log itself got wrong.
+    pub fn finish(self, config: &Config, lines_read: usize) -> Summary {
+        let mut s = self.s;
+        s.lines_read = lines_read;
+        if self.approved > 0 {
+            s.approved_mean_rouge_l = Some(round6(self.rouge_l / self.approved as f64));
+            s.approved_mean_bleu = Some(round6(self.bleu / self.approved as f64));
+        }
+        s.approved = self.regression.summary(config);
+        let mut reasons = Vec::new();
+        if s.answers_failed > 0 {
+            let list: Vec<String> =
+                self.gate_kinds.iter().map(|(k, n)| format!("{k} ×{n}")).collect();
+            reasons.push(format!(
+                "{} of {} answers fail the gate (fail_on = [{}], max_unsupported = {}): {}",
+                s.answers_failed,
+                s.answers_checked,
+                config.gate.fail_on.join(", "),
+                config.gate.max_unsupported,
+                list.join(", ")
+            ));
+        }
+        let unreadable = s.lines_rejected - s.internal_errors;
+        if unreadable > 0 && !config.gate.allow_rejected_lines {
+            reasons.push(format!(
+                "{unreadable} line(s) of the answers file could not be read (allow_rejected_lines = false)"
+            ));
+        }
+        if s.internal_errors > 0 {
+            reasons.push(format!(
+                "{} answer(s) could not be checked because of an internal error (a defect of \
+                 plumbline; see `rejected`), which fails the gate whatever allow_rejected_lines says",
+                s.internal_errors
+            ));
+        }
+        s.gate = GateResult { passed: reasons.is_empty(), reasons };
+        s
     }
-    s.gate = GateResult { passed: reasons.is_empty(), reasons };
-    s
 }
 
-/// Runs `plumbline check` end to end.
-pub fn check(inputs: &RunInputs, outputs: &Outputs, verbosity: Verbosity) -> Result<Outcome> {
-    let started = Instant::now();
-    let loaded = load(inputs)?;
-    let ctx = loaded.context(inputs.redact_restricted);
-    let (report, used) = check_answers(inputs, &ctx, &loaded, verbosity)?;
-    let _ = used;
-    write_outputs(&report, outputs)?;
-    if verbosity != Verbosity::Quiet {
-        print_summary(&report, outputs, Some(loaded.store_seconds), started.elapsed());
-    }
-    Ok(if report.summary.gate.passed { Outcome::Pass } else { Outcome::GateFailed })
+/// Counts, gate and the rest of the summary from the checked answers.
+pub fn summarise(
+    config: &Config,
+    answers: &[AnswerFindings],
+    rejected: &[RejectedLine],
+    lines_read: usize,
+) -> Summary {
+    let mut tally = Tally::new();
+    answers.iter().for_each(|a| tally.answer(a));
+    rejected.iter().for_each(|r| tally.rejected(r));
+    tally.finish(config, lines_read)
 }
 
-/// Reads the answers log and checks every answer; builds the findings document.
-pub fn check_answers(
+/// Set by [`interrupt`]: the run stops checking and writes nothing.
+static INTERRUPTED: AtomicBool = AtomicBool::new(false);
+
+/// Asks a run in progress to stop: no further answer is checked and no output is written
+/// (the Ctrl-C handler of `plumbline check` calls this).
+pub fn interrupt() {
+    INTERRUPTED.store(true, Ordering::SeqCst);
+}
+
+/// Whether [`interrupt`] was called.
+pub fn is_interrupted() -> bool {
+    INTERRUPTED.load(Ordering::SeqCst)
+}
+
+/// Where the findings go as answers are checked, in input order.
+pub trait FindingsSink {
+    /// One checked answer.
+    fn answer(&mut self, a: AnswerFindings) -> io::Result<()>;
+    /// One rejected line (in line order).
+    fn rejected(&mut self, r: RejectedLine) -> io::Result<()>;
+}
+
+/// Findings held in memory.
+#[derive(Debug, Default)]
+pub struct InMemory {
+    /// Checked answers.
+    pub answers: Vec<AnswerFindings>,
+    /// Rejected lines.
+    pub rejected: Vec<RejectedLine>,
+}
+
+impl FindingsSink for InMemory {
+    fn answer(&mut self, a: AnswerFindings) -> io::Result<()> {
+        self.answers.push(a);
+        Ok(())
+    }
+    fn rejected(&mut self, r: RejectedLine) -> io::Result<()> {
+        self.rejected.push(r);
+        Ok(())
+    }
+}
+
+/// Findings spooled to unnamed temporary files ([`report::spool`]).
+pub struct Spooled {
+    answers: Spool<AnswerFindings>,
+    rejected: Spool<RejectedLine>,
+}
+
+impl Spooled {
+    /// Two empty spools.
+    pub fn new() -> io::Result<Spooled> {
+        Ok(Spooled { answers: Spool::new()?, rejected: Spool::new()? })
+    }
+
+    /// Reads everything back into memory.
+    pub fn into_memory(self) -> io::Result<InMemory> {
+        Ok(InMemory {
+            answers: self.answers.replay()?.collect::<io::Result<_>>()?,
+            rejected: self.rejected.replay()?.collect::<io::Result<_>>()?,
+        })
+    }
+}
+
+impl FindingsSink for Spooled {
+    fn answer(&mut self, a: AnswerFindings) -> io::Result<()> {
+        self.answers.push(&a)
+    }
+    fn rejected(&mut self, r: RejectedLine) -> io::Result<()> {
+        self.rejected.push(&r)
+    }
+}
+
+/// What reading the log produced besides the findings that went to the sink.
+#[derive(Debug, Clone)]
+pub struct LogRecord {
+    /// The summary, gate decided.
+    pub summary: Summary,
+    /// Size and digest of what was read.
+    pub answers_file: InputFile,
+    /// Which reviewer decisions waived something.
+    pub used: Vec<bool>,
+}
+
+/// How one answer's check ended.
+enum Checking {
+    Done(Box<Checked>),
+    Failed(RejectedLine),
+    Skipped,
+}
+
+/// Reads the answers log and checks every answer, sending findings to `sink` in input
+/// order. Returns `None` when the run was interrupted ([`interrupt`]).
+///
+/// Each answer is checked behind a panic boundary: a panic becomes a [`RejectedLine`]
+/// naming the answer's id and the panic's message, and the run goes on.
+pub fn read_and_check(
     inputs: &RunInputs,
     ctx: &Context<'_>,
     loaded: &Loaded,
     verbosity: Verbosity,
-) -> Result<(Report, Vec<bool>)> {
+    sink: &mut dyn FindingsSink,
+) -> Result<Option<LogRecord>> {
     let from_stdin = inputs.answers.as_os_str() == "-";
     let source: Box<dyn Read> =
         if from_stdin {
@@ -324,13 +466,21 @@ pub fn check_answers(
                 UsageError(format!("cannot read {}: {e}", inputs.answers.display()))
             })?)
         };
-    let total_lines = if from_stdin { None } else { count_lines(&inputs.answers).ok() };
+    // The total is only worth a second pass over the file when a bar will show it.
+    let total_lines = if from_stdin || !shows_progress(verbosity) {
+        None
+    } else {
+        count_lines(&inputs.answers).ok()
+    };
     let mut hashing = Hashing { inner: source, hasher: Sha256::new(), bytes: 0 };
     let limits = ReaderLimits::from(&loaded.config.limits);
     let progress = progress_bar(verbosity, total_lines);
+    // A deliberate failure for the tests of the panic boundary; compiled into debug
+    // builds only, so a release binary has no such switch.
+    #[cfg(debug_assertions)]
+    let fail_on = std::env::var("PLUMBLINE_DEBUG_PANIC_ON_ID").ok();
 
-    let mut answers: Vec<AnswerFindings> = Vec::new();
-    let mut rejected: Vec<RejectedLine> = Vec::new();
+    let mut tally = Tally::new();
     let mut used = vec![false; ctx.decisions.len()];
     let mut other_shards = 0usize;
     let reports_rejected = inputs.shard.is_none_or(|s| s.reports_rejected());
@@ -338,49 +488,78 @@ pub fn check_answers(
     {
         let mut reader =
             AnswerReader::with_limits(BufReader::with_capacity(1 << 16, &mut hashing), limits);
-        const BATCH: usize = 1024;
         loop {
-            let batch: Vec<_> = reader.by_ref().take(BATCH).collect();
+            if is_interrupted() {
+                progress.abandon();
+                return Ok(None);
+            }
+            let batch = next_batch(&mut reader);
             if batch.is_empty() {
                 break;
             }
             let mut todo = Vec::with_capacity(batch.len());
+            let mut rejected = Vec::new();
             for item in batch {
                 match item {
                     Ok(a) if inputs.shard.is_none_or(|s| s.owns(&a.id)) => todo.push(a),
                     Ok(_) => other_shards += 1,
                     Err(r) if reports_rejected => {
-                        rejected.push(RejectedLine { line: r.line, error: r.error })
+                        rejected.push(RejectedLine::unreadable(r.line, r.error))
                     }
                     Err(_) => other_shards += 1,
                 }
             }
-            let results: Vec<Result<Checked, RejectedLine>> = todo
+            let results: Vec<Checking> = todo
                 .par_iter()
                 .map(|a| {
-                    catch_unwind(AssertUnwindSafe(|| check_answer(ctx, a))).map_err(|p| {
-                        RejectedLine {
+                    if is_interrupted() {
+                        return Checking::Skipped;
+                    }
+                    let checked = catch_unwind(AssertUnwindSafe(|| {
+                        #[cfg(debug_assertions)]
+                        if fail_on.as_deref() == Some(a.id.as_str()) {
+                            panic!("deliberate failure (PLUMBLINE_DEBUG_PANIC_ON_ID)");
+                        }
+                        check_answer(ctx, a)
+                    }));
+                    match checked {
+                        Ok(c) => Checking::Done(Box::new(c)),
+                        Err(p) => Checking::Failed(RejectedLine {
                             line: a.line,
                             error: format!(
                                 "answer {}: internal error while checking: {}",
-                                a.id,
+                                json_quote(&a.id),
                                 panic_message(p.as_ref())
                             ),
-                        }
-                    })
+                            internal_error_in: Some(a.id.clone()),
+                        }),
+                    }
                 })
                 .collect();
+            if is_interrupted() {
+                progress.abandon();
+                return Ok(None);
+            }
             let n = results.len() as u64;
             for r in results {
                 match r {
-                    Ok(c) => {
+                    Checking::Done(c) => {
+                        let c = *c;
                         for i in c.used_decisions {
                             used[i] = true;
                         }
-                        answers.push(c.findings);
+                        tally.answer(&c.findings);
+                        sink.answer(c.findings).context("spooling findings")?;
                     }
-                    Err(rej) => rejected.push(rej),
+                    Checking::Failed(rej) => rejected.push(rej),
+                    Checking::Skipped => {}
                 }
+            }
+            // Every rejected line of this batch lies after those of earlier batches.
+            rejected.sort_by_key(|r| r.line);
+            for r in rejected {
+                tally.rejected(&r);
+                sink.rejected(r).context("spooling rejected lines")?;
             }
             progress.inc(n);
         }
@@ -390,19 +569,64 @@ pub fn check_answers(
         lines_read = reader.non_blank_lines() - other_shards;
     }
     progress.finish_and_clear();
-    rejected.sort_by_key(|r| r.line);
+    Ok(Some(LogRecord {
+        summary: tally.finish(&loaded.config, lines_read),
+        answers_file: InputFile {
+            path: inputs.answers.display().to_string(),
+            size: hashing.bytes,
+            sha256: hex(&hashing.hasher.finalize()),
+        },
+        used,
+    }))
+}
 
-    let answers_record = InputFile {
-        path: inputs.answers.display().to_string(),
-        size: hashing.bytes,
-        sha256: hex(&hashing.hasher.finalize()),
-    };
+/// Most answers checked together, in parallel, before their findings are spooled.
+const BATCH: usize = 1024;
+
+/// Most text (answers, questions, quotes, in bytes) in one batch: with lines of up to
+/// `limits.max_line_bytes` (8 MiB by default), 1,024 of them at once would hold gigabytes,
+/// while a batch that stops here holds a few lines' worth. A single line over it still
+/// forms a batch of its own.
+const BATCH_TEXT_BYTES: usize = 16 << 20;
+
+/// The next batch of read items: up to [`BATCH`] of them, or fewer once their text
+/// reaches [`BATCH_TEXT_BYTES`].
+fn next_batch<R: BufRead>(
+    reader: &mut AnswerReader<R>,
+) -> Vec<Result<crate::answers::Answer, crate::answers::Rejected>> {
+    let mut batch = Vec::new();
+    let mut bytes = 0usize;
+    while batch.len() < BATCH && bytes < BATCH_TEXT_BYTES {
+        let Some(item) = reader.next() else { break };
+        if let Ok(a) = &item {
+            bytes += a.answer.len()
+                + a.question.as_ref().map_or(0, String::len)
+                + a.approved_answer.as_ref().map_or(0, String::len)
+                + a.citations
+                    .iter()
+                    .map(|c| c.quote.as_ref().map_or(0, String::len))
+                    .sum::<usize>();
+        }
+        batch.push(item);
+    }
+    batch
+}
+
+/// The findings document around the given answers and rejected lines (which may be left
+/// empty, for [`report::json::write_streamed`]).
+pub fn assemble(
+    inputs: &RunInputs,
+    loaded: &Loaded,
+    record: LogRecord,
+    answers: Vec<AnswerFindings>,
+    rejected: Vec<RejectedLine>,
+) -> Result<Report> {
     let opt_record = |p: &Option<PathBuf>| p.as_deref().map(file_record).transpose();
-    let summary = summarise(&loaded.config, &answers, &rejected, lines_read);
-    let stale: Vec<DecisionRecord> = ctx
+    let stale: Vec<DecisionRecord> = loaded
         .decisions
+        .0
         .iter()
-        .zip(&used)
+        .zip(&record.used)
         .filter(|(_, u)| !**u)
         .map(|(d, _)| DecisionRecord {
             answer: d.answer.clone(),
@@ -413,7 +637,7 @@ pub fn check_answers(
             note: d.note.clone(),
         })
         .collect();
-    let report = Report {
+    Ok(Report {
         tool: Tool::default(),
         generated_at: utc_now(),
         command: inputs.command.clone(),
@@ -425,7 +649,7 @@ pub fn check_answers(
         merged_from: Vec::new(),
         redact_restricted: inputs.redact_restricted,
         inputs: Inputs {
-            answers: answers_record,
+            answers: record.answers_file,
             principals: opt_record(&inputs.principals)?,
             config: opt_record(&inputs.config)?,
             accept: opt_record(&inputs.accept)?,
@@ -446,21 +670,76 @@ pub fn check_answers(
             },
         },
         config: serde_json::to_value(&loaded.config)?,
-        summary,
+        summary: record.summary,
         answers,
         rejected,
         decisions: Decisions {
-            applied: used.iter().filter(|u| **u).count(),
+            applied: record.used.iter().filter(|u| **u).count(),
             stale,
             rejected: loaded
                 .decisions
                 .1
                 .iter()
-                .map(|r| RejectedLine { line: r.line, error: r.error.clone() })
+                .map(|r| RejectedLine::unreadable(r.line, r.error.clone()))
                 .collect(),
         },
+    })
+}
+
+/// Runs `plumbline check` end to end.
+///
+/// Findings are spooled as answers are checked, so memory does not grow with the log
+/// while checking. With `--json` alone (or no output) they are streamed from the spool
+/// into the findings file; `--html`, `--junit` and `--sarif` read them back into memory
+/// first. Every output is staged and committed only once all of them are complete; an
+/// interrupted run ([`interrupt`]) writes none and returns [`Outcome::Interrupted`].
+pub fn check(inputs: &RunInputs, outputs: &Outputs, verbosity: Verbosity) -> Result<Outcome> {
+    let started = Instant::now();
+    let loaded = load(inputs)?;
+    let ctx = loaded.context(inputs.redact_restricted);
+    let mut spooled = Spooled::new().context("creating a temporary file for findings")?;
+    let Some(record) = read_and_check(inputs, &ctx, &loaded, verbosity, &mut spooled)? else {
+        return Ok(interrupted());
     };
-    Ok((report, used))
+    let needs_memory = outputs.html.is_some() || outputs.junit.is_some() || outputs.sarif.is_some();
+    let report = if needs_memory {
+        let all = spooled.into_memory().context("reading spooled findings")?;
+        let report = assemble(inputs, &loaded, record, all.answers, all.rejected)?;
+        if !write_outputs(&report, outputs)? {
+            return Ok(interrupted());
+        }
+        report
+    } else {
+        let head = assemble(inputs, &loaded, record, Vec::new(), Vec::new())?;
+        if !write_json_streamed(&head, spooled, outputs.json.as_deref())? {
+            return Ok(interrupted());
+        }
+        head
+    };
+    if verbosity != Verbosity::Quiet {
+        print_summary(&report, outputs, Some(loaded.store_seconds), started.elapsed());
+    }
+    Ok(if report.summary.gate.passed { Outcome::Pass } else { Outcome::GateFailed })
+}
+
+/// The one line an interrupted run prints.
+fn interrupted() -> Outcome {
+    let _ = writeln!(io::stderr(), "plumbline: interrupted; no output written");
+    Outcome::Interrupted
+}
+
+/// Reads the answers log and checks every answer; builds the findings document in memory.
+pub fn check_answers(
+    inputs: &RunInputs,
+    ctx: &Context<'_>,
+    loaded: &Loaded,
+    verbosity: Verbosity,
+) -> Result<(Report, Vec<bool>)> {
+    let mut sink = InMemory::default();
+    let record = read_and_check(inputs, ctx, loaded, verbosity, &mut sink)?
+        .ok_or_else(|| anyhow::anyhow!("interrupted"))?;
+    let used = record.used.clone();
+    Ok((assemble(inputs, loaded, record, sink.answers, sink.rejected)?, used))
 }
 
 fn count_lines(path: &Path) -> io::Result<u64> {
@@ -478,10 +757,23 @@ fn count_lines(path: &Path) -> io::Result<u64> {
     Ok(n.max(1))
 }
 
+/// Whether a progress bar will be drawn.
+fn shows_progress(verbosity: Verbosity) -> bool {
+    match verbosity {
+        Verbosity::Quiet => false,
+        Verbosity::Progress => true,
+        Verbosity::Normal => io::stderr().is_terminal(),
+    }
+}
+
 fn progress_bar(verbosity: Verbosity, total: Option<u64>) -> ProgressBar {
     let target = match verbosity {
         Verbosity::Quiet => return ProgressBar::hidden(),
-        Verbosity::Progress => ProgressDrawTarget::term(console::Term::stderr(), 10),
+        // `term` would hide the bar when stderr is not a terminal, which is exactly when
+        // `--progress` asks for it; a `TermLike` target draws regardless.
+        Verbosity::Progress => {
+            ProgressDrawTarget::term_like_with_hz(Box::new(console::Term::stderr()), 10)
+        }
         Verbosity::Normal if io::stderr().is_terminal() => ProgressDrawTarget::stderr(),
         Verbosity::Normal => return ProgressBar::hidden(),
     };
@@ -496,30 +788,97 @@ fn progress_bar(verbosity: Verbosity, total: Option<u64>) -> ProgressBar {
     bar
 }
 
-/// Writes every requested output.
-pub fn write_outputs(report: &Report, outputs: &Outputs) -> Result<()> {
+/// A writer for one output.
+type WriteOutput<'a> = Box<dyn FnOnce(&mut dyn Write) -> io::Result<()> + 'a>;
+
+/// Outputs staged to temporary files, and those for stdout, written together by
+/// [`Staging::commit`] unless the run was interrupted.
+#[derive(Default)]
+struct Staging<'a> {
+    files: Vec<report::Staged>,
+    stdout: Vec<WriteOutput<'a>>,
+}
+
+impl<'a> Staging<'a> {
+    /// Stages an output for `path`, or keeps its writer for stdout.
+    fn add(
+        &mut self,
+        path: &Path,
+        write: impl FnOnce(&mut dyn Write) -> io::Result<()> + 'a,
+    ) -> Result<()> {
+        if report::is_stdout(path) {
+            self.stdout.push(Box::new(write));
+        } else {
+            let staged = report::stage(path, write)
+                .with_context(|| format!("writing {}", path.display()))?;
+            self.files.push(staged);
+        }
+        Ok(())
+    }
+
+    /// Moves every staged output into place and writes the stdout ones; nothing at all
+    /// when the run was interrupted (the staged files are removed). Returns whether the
+    /// outputs were written.
+    fn commit(self) -> Result<bool> {
+        if is_interrupted() {
+            return Ok(false);
+        }
+        for staged in self.files {
+            let path = staged.path().to_path_buf();
+            staged.commit().with_context(|| format!("writing {}", path.display()))?;
+        }
+        for write in self.stdout {
+            let mut out = io::stdout().lock();
+            write(&mut out).context("writing to stdout")?;
+            out.flush().context("writing to stdout")?;
+        }
+        Ok(true)
+    }
+}
+
+/// Writes every requested output of a report held in memory: all are staged first and
+/// committed together. Returns `false`, having written nothing, when the run was
+/// interrupted.
+pub fn write_outputs(report: &Report, outputs: &Outputs) -> Result<bool> {
+    let mut staging = Staging::default();
     if let Some(path) = &outputs.json {
         let bytes = report::json::to_bytes(report)?;
-        report::write_atomic(path, &bytes)
-            .with_context(|| format!("writing {}", path.display()))?;
+        staging.add(path, move |w| w.write_all(&bytes))?;
     }
     if let Some(path) = &outputs.html {
-        let bytes = report::html::render(report)?;
-        report::write_atomic(path, bytes.as_bytes())
-            .with_context(|| format!("writing {}", path.display()))?;
+        let text = report::html::render(report)?;
+        staging.add(path, move |w| w.write_all(text.as_bytes()))?;
     }
     if let Some(path) = &outputs.junit {
-        let bytes = report::junit::render(report);
-        report::write_atomic(path, bytes.as_bytes())
-            .with_context(|| format!("writing {}", path.display()))?;
+        let text = report::junit::render(report);
+        staging.add(path, move |w| w.write_all(text.as_bytes()))?;
     }
     if let Some(path) = &outputs.sarif {
         let columns = report::locate::locate(report);
         let bytes = report::sarif::render_located(report, columns.as_ref())?;
-        report::write_atomic(path, &bytes)
-            .with_context(|| format!("writing {}", path.display()))?;
+        staging.add(path, move |w| w.write_all(&bytes))?;
     }
-    Ok(())
+    staging.commit()
+}
+
+/// Writes the findings JSON (if asked for) with the answers and rejected lines streamed
+/// from their spools. Returns `false`, having written nothing, when interrupted.
+fn write_json_streamed(head: &Report, spooled: Spooled, json: Option<&Path>) -> Result<bool> {
+    let Some(path) = json else { return Ok(!is_interrupted()) };
+    let Spooled { answers, rejected } = spooled;
+    // Writing a large findings file takes a while: an interruption stops it between
+    // answers (the staged file is then removed).
+    let stop = |item| if is_interrupted() { Err(io::Error::other("interrupted")) } else { item };
+    let mut staging = Staging::default();
+    let staged = staging.add(path, move |w| {
+        let answers = answers.replay()?.map(stop);
+        report::json::write_streamed(w, head, answers, rejected.replay()?)
+    });
+    match staged {
+        Err(_) if is_interrupted() => Ok(false),
+        Err(e) => Err(e),
+        Ok(()) => staging.commit(),
+    }
 }
 
 /// The terminal summary on stderr.
@@ -531,6 +890,7 @@ pub fn print_summary(
     store_seconds: Option<f64>,
     elapsed: Duration,
 ) {
+    let loaded = store_seconds.map_or_else(String::new, |t| format!(" ({t:.2}s)"));
     let s = &report.summary;
     let mut err = io::stderr().lock();
     let nonzero = |m: &BTreeMap<String, usize>| -> String {
@@ -538,7 +898,6 @@ pub fn print_summary(
             m.iter().filter(|(_, n)| **n > 0).map(|(k, n)| format!("{k} {n}")).collect();
         if v.is_empty() { "none".into() } else { v.join(", ") }
     };
-    let loaded = store_seconds.map_or_else(String::new, |t| format!(" ({t:.2}s)"));
     let _ = writeln!(
         err,
         "plumbline: {} answers checked, {} lines rejected ({} non-blank lines read); store {} documents{loaded}",

@@ -84,6 +84,9 @@ pub fn find_markers(answer: &str, known_refs: &[&str]) -> Vec<Marker> {
     let mut markers = Vec::new();
     // The `]` of the last bracket group that was not a marker, to spot `[text][label]`.
     let mut prose_close: Option<usize> = None;
+    // Where the line of the current group starts, found by scanning each byte once (a
+    // search back from every group would make one long line quadratic).
+    let (mut scanned, mut line_start) = (0, 0);
     let mut i = 0;
     while i < b.len() {
         if b[i] != b'[' {
@@ -113,7 +116,11 @@ pub fn find_markers(answer: &str, known_refs: &[&str]) -> Vec<Marker> {
         }
         // `[` and `]` are ASCII, so both ends are character boundaries.
         let content = &answer[i + 1..j];
-        match marker_refs(answer, i, j, content, known_refs, prose_close) {
+        if let Some(p) = b[scanned..i].iter().rposition(|&c| c == b'\n') {
+            line_start = scanned + p + 1;
+        }
+        scanned = i;
+        match marker_refs(answer, line_start, i, j, content, known_refs, prose_close) {
             Some(refs) => markers.push(Marker { start: i, end: j + 1, refs }),
             None => prose_close = Some(j),
         }
@@ -122,9 +129,11 @@ pub fn find_markers(answer: &str, known_refs: &[&str]) -> Vec<Marker> {
     markers
 }
 
-/// The refs of the group `answer[open..=close]` if it is a marker, else `None`.
+/// The refs of the group `answer[open..=close]`, on the line starting at `line_start`, if
+/// it is a marker, else `None`.
 fn marker_refs(
     answer: &str,
+    line_start: usize,
     open: usize,
     close: usize,
     content: &str,
@@ -133,7 +142,6 @@ fn marker_refs(
 ) -> Option<Vec<String>> {
     let b = answer.as_bytes();
     let next = b.get(close + 1).copied();
-    let line_start = answer[..open].rfind('\n').map_or(0, |p| p + 1);
     let before = &answer[line_start..open];
     if next == Some(b'(') {
         return None;

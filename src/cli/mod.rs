@@ -3,6 +3,7 @@
 //! codes fixed by SPEC.md in one place.
 
 use std::io::{self, Write};
+use std::panic;
 use std::process::ExitCode;
 
 use clap::{Parser, Subcommand};
@@ -21,6 +22,9 @@ pub enum Outcome {
     Pass,
     /// The run completed and something fails the gate (exit 1).
     GateFailed,
+    /// Interrupted (Ctrl-C) before its outputs were written; nothing was written (exit
+    /// 130, the shell's code for a command ended by SIGINT).
+    Interrupted,
 }
 
 /// An error of use or of unreadable input (exit 2).
@@ -65,22 +69,58 @@ pub fn main() -> ExitCode {
             return ExitCode::from(code);
         }
     };
-    let result = match cli.command {
-        Command::Check(args) => check::execute(&args),
-        Command::Demo(args) => demo::execute(&args),
+    // A panic that escapes a command (the check of each answer has its own boundary, in
+    // `run`) ends in the exit code of SPEC.md for a run that could not be completed,
+    // never in a pass and never in Rust's own exit code 101.
+    let result = panic::catch_unwind(|| match cli.command {
+        Command::Check(args) => {
+            on_ctrl_c();
+            check::execute(&args)
+        }
+        Command::Demo(args) => {
+            on_ctrl_c();
+            demo::execute(&args)
+        }
         Command::Score(args) => score::execute(&args),
         Command::Sentences(args) => sentences::execute(&args),
         Command::Compare(args) => compare::execute(&args),
         Command::Merge(args) => merge::execute(&args),
-    };
+    });
     match result {
-        Ok(Outcome::Pass) => ExitCode::SUCCESS,
-        Ok(Outcome::GateFailed) => ExitCode::from(1),
-        Err(e) if is_broken_pipe(&e) => ExitCode::SUCCESS,
-        Err(e) => {
+        Ok(Ok(Outcome::Pass)) => ExitCode::SUCCESS,
+        Ok(Ok(Outcome::GateFailed)) => ExitCode::from(1),
+        Ok(Ok(Outcome::Interrupted)) => ExitCode::from(INTERRUPTED),
+        Ok(Err(e)) if is_broken_pipe(&e) => ExitCode::SUCCESS,
+        Ok(Err(e)) => {
             let _ = writeln!(io::stderr(), "plumbline: error: {e:#}");
             ExitCode::from(2)
         }
+        Err(_) => {
+            let _ = writeln!(
+                io::stderr(),
+                "plumbline: internal error (a defect of plumbline; the message above says where); \
+                 the run did not complete"
+            );
+            ExitCode::from(2)
+        }
+    }
+}
+
+/// Exit code of a run stopped by Ctrl-C: 128 + SIGINT, as shells report it.
+const INTERRUPTED: u8 = 130;
+
+/// Ctrl-C asks the run to stop ([`crate::run::interrupt`]): it stops checking, removes
+/// its temporary files, writes no output and exits 130. A second Ctrl-C ends the process
+/// at once, for a run that does not stop soon enough.
+fn on_ctrl_c() {
+    let handler = || {
+        if crate::run::is_interrupted() {
+            std::process::exit(i32::from(INTERRUPTED));
+        }
+        crate::run::interrupt();
+    };
+    if let Err(e) = ctrlc::set_handler(handler) {
+        let _ = writeln!(io::stderr(), "plumbline: warning: Ctrl-C will not stop cleanly: {e}");
     }
 }
 

@@ -98,6 +98,7 @@ pub(crate) fn walk<'r>(
         drop_depth: 0,
         pre_depth: 0,
         skip_lf: false,
+        pending: Vec::new(),
         max_depth: options.max_html_depth,
     };
     // The emitter never yields tokens, so the iteration cannot fail (`StringReader`'s error
@@ -150,6 +151,8 @@ struct Walker<'s, 't, 'r> {
     pre_depth: usize,
     /// Drop a newline right after `<pre>`, `<listing>` or `<textarea>` (as the parser does).
     skip_lf: bool,
+    /// The first bytes of a character whose rest the tokenizer has not emitted yet.
+    pending: Vec<u8>,
     max_depth: usize,
 }
 
@@ -166,8 +169,31 @@ impl Walker<'_, '_, '_> {
         if s.is_empty() {
             return;
         }
+        // The tokenizer works on bytes and can hand over a character in two pieces: after
+        // a `<` that opens no tag, a following non-ASCII character arrives as its first
+        // byte, then the rest. The bytes of an unfinished character wait for the rest, so
+        // that the text is decoded, and located in the file, whole.
+        let joined;
+        let s = if self.pending.is_empty() {
+            s
+        } else {
+            let mut j = std::mem::take(&mut self.pending);
+            j.extend_from_slice(s);
+            joined = j;
+            &joined[..]
+        };
+        let s = match std::str::from_utf8(s) {
+            Err(e) if e.error_len().is_none() => {
+                self.pending = s[e.valid_up_to()..].to_vec();
+                &s[..e.valid_up_to()]
+            }
+            _ => s,
+        };
+        if s.is_empty() {
+            return;
+        }
         let src = self.src;
-        let p = self.pos.min(src.len());
+        let p = self.pos.min(src.len()).saturating_sub(self.pending.len());
         let n = s.len();
         let start = if n <= p && p - n >= self.cursor && &src[p - n..p] == s {
             p - n
@@ -206,6 +232,32 @@ impl Walker<'_, '_, '_> {
                 return;
             }
         }
+        // Text copied byte for byte from a Markdown HTML block may run across several of
+        // its pieces, with file bytes between them that the block's text leaves out (the
+        // CR of a CRLF line ending). Each piece is placed on its own, so that the text of
+        // every piece keeps its own file range rather than all of it lumping onto one.
+        if let (true, Translate::Pieces(pieces)) = (positional, &self.translate) {
+            let pieces: &[Piece] = pieces;
+            let end = start + len;
+            let mut at = start;
+            while at < end {
+                let next = pieces.partition_point(|x| x.buf <= at);
+                let cut = pieces.get(next).map_or(end, |n| n.buf).clamp(at + 1, end);
+                if cut < end && !part.is_char_boundary(cut - start) {
+                    // Pieces are whole strings, so this cannot happen; place the rest whole.
+                    self.place(&part[at - start..], at, end - at, true);
+                    return;
+                }
+                self.place(&part[at - start..cut - start], at, cut - at, true);
+                at = cut;
+            }
+            return;
+        }
+        self.place(part, start, len, positional);
+    }
+
+    /// Writes `part`, from `start..start + len` of the tokenized text, into the builder.
+    fn place(&mut self, part: &str, start: usize, len: usize, positional: bool) {
         let (fs, fe) = self.translate.range(start, start + len);
         if self.preformatted() {
             self.b.pre(part, fs, fe - fs);
@@ -599,6 +651,45 @@ mod tests {
         let p = raw.find("<p>Caf").unwrap();
         let r = ex.map.to_visible_range(p, raw.len());
         assert_eq!(&ex.text[r], "Café time: 30\u{202f}min.");
+    }
+
+    /// Regression (found by the `extract_html` fuzz target): a `<` that opens no tag,
+    /// followed by a non-ASCII character, came out as three U+FFFD and mapped onto a file
+    /// range that split the character.
+    #[test]
+    fn lt_before_a_non_ascii_character() {
+        for raw in ["a <é b", "price <€5 here", "<\u{fffd}\u{fffd}b> x", "x<日本語>y", "1 <— 2"]
+        {
+            let ex = extract(Format::Html, raw);
+            assert!(!ex.text.contains('\u{fffd}') || raw.contains('\u{fffd}'), "{:?}", ex.text);
+            assert_eq!(
+                ex.text.matches('\u{fffd}').count(),
+                raw.matches('\u{fffd}').count(),
+                "{raw:?} -> {:?}",
+                ex.text
+            );
+            words_map_back(raw, &ex);
+            monotone(&ex, raw);
+        }
+        assert_eq!(text("price <€5 here"), "price <€5 here");
+    }
+
+    /// Regression (found by the `extract_html` fuzz target): in a title, the LF of a CRLF
+    /// was left over after the CR's newline, and the text after it mapped onto the wrong
+    /// bytes, its last word onto none.
+    #[test]
+    fn crlf_before_text_the_tokenizer_reads_ahead() {
+        for raw in ["<title>\r\n</p", "<title>a\r\n</x b</title>", "<textarea>\r\n</t y"] {
+            let ex = extract(Format::Html, raw);
+            words_map_back(raw, &ex);
+            monotone(&ex, raw);
+            for word in ["p", "x", "b", "t", "y"] {
+                if let Some(v) = ex.text.rfind(word) {
+                    let (fs, fe) = (ex.map.to_file(v), ex.map.to_file_end(v + 1));
+                    assert_eq!(&raw[fs..fe], word, "{raw:?}: {word:?} maps to {fs}..{fe}");
+                }
+            }
+        }
     }
 
     #[test]

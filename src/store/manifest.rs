@@ -13,6 +13,8 @@
 //! reported as an [`EntryProblem`] and skipped, and the other entries still apply. Unknown
 //! fields are ignored.
 
+use std::io::Read;
+use std::os::unix::fs::OpenOptionsExt;
 use std::path::{Path, PathBuf};
 
 use serde_json::Value;
@@ -83,13 +85,25 @@ pub struct Manifest {
     pub problems: Vec<EntryProblem>,
 }
 
-/// Reads and checks the manifest at `path`.
-pub fn load(path: &Path) -> Result<Manifest, ManifestError> {
-    let text = std::fs::read_to_string(path).map_err(|e| ManifestError {
-        path: path.to_path_buf(),
-        line: 0,
-        column: 0,
-        message: format!("cannot read: {e}"),
+/// Reads and checks the manifest at `path`, refusing one larger than `max_bytes` (the
+/// store's `limits.max_document_bytes`) or one that is a symbolic link.
+pub fn load(path: &Path, max_bytes: u64) -> Result<Manifest, ManifestError> {
+    let fail =
+        |message: String| ManifestError { path: path.to_path_buf(), line: 0, column: 0, message };
+    let file = std::fs::OpenOptions::new()
+        .read(true)
+        .custom_flags(libc::O_NOFOLLOW | libc::O_NONBLOCK)
+        .open(path)
+        .map_err(|e| fail(format!("cannot read: {e}")))?;
+    let mut bytes = Vec::new();
+    file.take(max_bytes.saturating_add(1))
+        .read_to_end(&mut bytes)
+        .map_err(|e| fail(format!("cannot read: {e}")))?;
+    if bytes.len() as u64 > max_bytes {
+        return Err(fail(format!("larger than limits.max_document_bytes = {max_bytes}; not read")));
+    }
+    let text = String::from_utf8(bytes).map_err(|e| {
+        fail(format!("not UTF-8 (invalid byte at offset {})", e.utf8_error().valid_up_to()))
     })?;
     parse(&text, path)
 }
@@ -164,6 +178,11 @@ fn entry(index: usize, d: &Value) -> Result<Entry, (String, String)> {
         err("path", format!("{path:?} {e}; the entry is skipped and the path never read"))
     })?;
     let path = confine::normalize(path).ok_or_else(|| err("path", "empty path".into()))?;
+    // Dropping `.` and empty components can make a new form (`./c:/x.md` is `c:/x.md`):
+    // the canonical path must pass too.
+    confine::check(&path).map_err(|e| {
+        err("path", format!("{path:?} {e}; the entry is skipped and the path never read"))
+    })?;
     let id = match obj.get("id") {
         None | Some(Value::Null) => None,
         Some(Value::String(s)) if s.is_empty() => return Err(err("id", "empty".into())),
@@ -242,6 +261,16 @@ mod tests {
         assert_eq!(m.entries[0].id.as_deref(), Some("hr/leave"));
         assert_eq!(m.entries[0].chunks, [ChunkSpec { id: "c1".into(), start: 0, end: 10 }]);
         assert!(m.problems.is_empty());
+    }
+
+    /// Regression (found by the `manifest` fuzz target): `./x:/y.md` passed the check,
+    /// and its canonical form `x:/y.md` is a drive path that a citation may not name.
+    #[test]
+    fn the_canonical_path_is_checked_too() {
+        let m = p(r#"{"documents": [{"path": "./x:/y.md"}, {"path": ".//c:x.md"},
+            {"path": "./ok.md"}]}"#);
+        assert_eq!(m.entries.iter().map(|e| e.path.as_str()).collect::<Vec<_>>(), ["ok.md"]);
+        assert_eq!(m.problems.iter().map(|p| p.entry).collect::<Vec<_>>(), [0, 1]);
     }
 
     #[test]

@@ -236,6 +236,45 @@ mod tests {
         assert_eq!(text("\n\n  \n"), "");
     }
 
+    /// Regression (found by the `extract_markdown` fuzz target): in an HTML block with
+    /// CRLF line endings, the text after the first CR mapped onto an empty file range.
+    #[test]
+    fn crlf_inside_an_html_block() {
+        for raw in [
+            "<div>\ncode\r\nx\n\nafter",
+            "<div>raw <b>htm`\ncode block\r\n```\n\nafter",
+            "<div>\r\none\r\ntwo words\r\n</div>\r\n\r\nafter",
+        ] {
+            let ex = extract(Format::Markdown, raw);
+            words_map_back(raw, &ex);
+            monotone(&ex, raw);
+            for word in ["code", "two", "words", "after"] {
+                if let Some(v) = ex.text.find(word) {
+                    let (fs, fe) = (ex.map.to_file(v), ex.map.to_file_end(v + word.len()));
+                    assert_eq!(&raw[fs..fe], word, "{raw:?}: {word:?} maps to {fs}..{fe}");
+                }
+            }
+        }
+    }
+
+    /// Regression (found by the `extract_markdown` fuzz target): pulldown-cmark turns
+    /// the CRLF in a code span into two spaces; the word after it mapped onto an empty
+    /// file range.
+    #[test]
+    fn crlf_inside_a_code_span() {
+        for raw in ["a`\r\nb`", "\0`\r\nb`", "x `one\r\ntwo three` y"] {
+            let ex = extract(Format::Markdown, raw);
+            words_map_back(raw, &ex);
+            monotone(&ex, raw);
+            for word in ["b", "two", "three"] {
+                if let Some(v) = ex.text.find(word) {
+                    let (fs, fe) = (ex.map.to_file(v), ex.map.to_file_end(v + word.len()));
+                    assert!(raw[fs..fe].contains(word), "{raw:?}: {word:?} maps to {fs}..{fe}");
+                }
+            }
+        }
+    }
+
     #[test]
     fn deep_nesting_does_not_overflow() {
         let raw = format!("{} deep\n", ">".repeat(10_000));

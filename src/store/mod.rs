@@ -36,8 +36,10 @@
 
 use std::collections::HashMap;
 use std::fmt;
+use std::io::Read;
 use std::ops::Range;
-use std::os::unix::fs::MetadataExt;
+use std::os::unix::fs::{MetadataExt, OpenOptionsExt};
+use std::panic::{AssertUnwindSafe, catch_unwind};
 use std::path::{Path, PathBuf};
 
 use rayon::prelude::*;
@@ -182,6 +184,9 @@ pub enum DeadReason {
     Empty,
     /// No document has this id or path.
     NotFound,
+    /// The file at this path was seen but not read (a link, a file with several hard
+    /// links, too large, not UTF-8); the reason the store gave.
+    Skipped(String),
 }
 
 impl fmt::Display for DeadReason {
@@ -193,6 +198,7 @@ impl fmt::Display for DeadReason {
             }
             DeadReason::Empty => f.write_str("the reference is empty"),
             DeadReason::NotFound => f.write_str("no document of the store has this id or path"),
+            DeadReason::Skipped(why) => write!(f, "the store skipped this file, which {why}"),
         }
     }
 }
@@ -268,7 +274,7 @@ impl Store {
                     problems.push(StoreProblem {
                         path: rel,
                         field: None,
-                        message: "symbolic link: not followed".into(),
+                        message: "is a symbolic link: not followed".into(),
                     });
                 }
                 continue;
@@ -295,8 +301,14 @@ impl Store {
         // Apply the manifest.
         let mut default_access = None;
         let manifest_path = root.join("manifest.json");
-        if manifest_path.is_file() && !manifest_path.is_symlink() {
-            let m = manifest::load(&manifest_path)?;
+        if manifest_path.is_symlink() {
+            problems.push(StoreProblem {
+                path: "manifest.json".into(),
+                field: None,
+                message: "symbolic link: not followed, so the store has no manifest".into(),
+            });
+        } else if manifest_path.is_file() {
+            let m = manifest::load(&manifest_path, limits.max_document_bytes)?;
             default_access = m.default_access;
             problems.extend(m.problems.into_iter().map(|p| StoreProblem {
                 path: format!("manifest.json: documents[{}]", p.entry),
@@ -385,7 +397,12 @@ impl Store {
         }
         confine::check(reference).map_err(DeadReason::Escapes)?;
         let key = reference.strip_prefix("./").unwrap_or(reference);
-        let i = *self.by_key.get(key).ok_or(DeadReason::NotFound)?;
+        let Some(&i) = self.by_key.get(key) else {
+            let skipped = self.problems.iter().find(|p| p.field.is_none() && p.path == key);
+            return Err(
+                skipped.map_or(DeadReason::NotFound, |p| DeadReason::Skipped(p.message.clone()))
+            );
+        };
         Ok((i, &self.documents[i]))
     }
 
@@ -414,22 +431,48 @@ fn read_document(
     options: &ExtractOptions,
 ) -> Result<Document, StoreProblem> {
     let problem = |message: String| StoreProblem { path: f.rel.clone(), field: None, message };
-    let meta =
-        std::fs::symlink_metadata(&f.path).map_err(|e| problem(format!("cannot read: {e}")))?;
+    // Opened without following a link in the last component, and checked on the open
+    // handle: a file swapped for a link, or linked again, after the walk saw it is still
+    // never read through the link.
+    let file = std::fs::OpenOptions::new()
+        .read(true)
+        .custom_flags(libc::O_NOFOLLOW | libc::O_NONBLOCK)
+        .open(&f.path)
+        .map_err(|e| {
+            if e.raw_os_error() == Some(libc::ELOOP) {
+                problem("is a symbolic link: not followed".into())
+            } else {
+                problem(format!("cannot read: {e}"))
+            }
+        })?;
+    let meta = file.metadata().map_err(|e| problem(format!("cannot read: {e}")))?;
+    if !meta.is_file() {
+        return Err(problem("is not a regular file; not read".into()));
+    }
     if meta.nlink() > 1 {
         return Err(problem(format!(
             "has {} hard links; one may lie outside the store, so it is not read",
             meta.nlink()
         )));
     }
-    if meta.len() > limits.max_document_bytes {
-        return Err(problem(format!(
-            "is {} bytes, over limits.max_document_bytes = {}; not read",
-            meta.len(),
+    let too_big = |size: u64| {
+        problem(format!(
+            "is {size} bytes, over limits.max_document_bytes = {}; not read",
             limits.max_document_bytes
-        )));
+        ))
+    };
+    if meta.len() > limits.max_document_bytes {
+        return Err(too_big(meta.len()));
     }
-    let bytes = std::fs::read(&f.path).map_err(|e| problem(format!("cannot read: {e}")))?;
+    // Read at most one byte over the limit, so a file that grows after the check is still
+    // refused rather than read whole.
+    let mut bytes = Vec::with_capacity(meta.len() as usize);
+    file.take(limits.max_document_bytes.saturating_add(1))
+        .read_to_end(&mut bytes)
+        .map_err(|e| problem(format!("cannot read: {e}")))?;
+    if bytes.len() as u64 > limits.max_document_bytes {
+        return Err(too_big(bytes.len() as u64));
+    }
     let sha256 = hex(&Sha256::digest(&bytes));
     let size = bytes.len() as u64;
     let raw = String::from_utf8(bytes).map_err(|e| {
@@ -438,7 +481,19 @@ fn read_document(
             e.utf8_error().valid_up_to()
         ))
     })?;
-    let visible = extract::extract_with(f.format, &raw, options);
+    // Extraction runs behind a panic boundary, like the check of an answer: a defect the
+    // document's markup triggers costs that document, not the run.
+    let visible = catch_unwind(AssertUnwindSafe(|| extract::extract_with(f.format, &raw, options)))
+        .map_err(|p| {
+            let cause = p
+                .downcast_ref::<&str>()
+                .map(|s| (*s).to_owned())
+                .or_else(|| p.downcast_ref::<String>().cloned())
+                .unwrap_or_else(|| "unknown cause".into());
+            problem(format!(
+                "internal error while extracting its text (a defect of plumbline): {cause}; not read"
+            ))
+        })?;
     Ok(Document {
         id: f.rel.clone(),
         path: f.rel.clone(),

@@ -37,12 +37,28 @@ class Dom(html.parser.HTMLParser):
         self.tools_hidden = None
         self.event_attrs = []
         self.images = 0
+        self.styles = 0
+        self.foreign = []  # elements that load or embed something
+        self.outward = []  # links and sources that leave the page
+        self.style_attrs = []
 
     def handle_starttag(self, tag, attrs):
         a = dict(attrs)
-        for name, _ in attrs:
+        for name, value in attrs:
             if name.startswith("on"):
                 self.event_attrs.append((tag, name))
+            if name in ("style", "srcdoc"):
+                self.style_attrs.append((tag, name))
+            # The page's own decisions download (a#download) is a blob: URL its script
+            # made; anything else must stay inside the page.
+            own_download = tag == "a" and a.get("id") == "download" and (value or "").startswith("blob:")
+            if name in ("href", "src", "action", "formaction", "xlink:href") \
+                    and not (value or "").startswith("#") and not own_download:
+                self.outward.append((tag, name, value))
+        if tag in ("iframe", "object", "embed", "link", "base", "frame", "portal"):
+            self.foreign.append(tag)
+        if tag == "style":
+            self.styles += 1
         if tag == "body":
             self.body = a
         elif tag == "title":
@@ -100,6 +116,10 @@ def main():
     check(dom.scripts == 1, f"exactly one script element (found {dom.scripts})")
     check(dom.event_attrs == [], f"no event-handler attributes ({dom.event_attrs[:3]})")
     check(dom.images == 0, f"no img elements (found {dom.images})")
+    check(dom.styles == 1, f"exactly one style element (found {dom.styles})")
+    check(dom.foreign == [], f"no iframe, object, embed, link or base elements ({dom.foreign[:3]})")
+    check(dom.outward == [], f"no link or source leaving the page ({dom.outward[:3]})")
+    check(dom.style_attrs == [], f"no style or srcdoc attributes ({dom.style_attrs[:3]})")
     check("Uncaught" not in log, "no uncaught script error in the log")
     if mode == "blocked":
         check(CSP_VIOLATION in log, "the browser refused the page's script, as the copy's policy says")

@@ -15,6 +15,7 @@ pub struct Fixture {
     principals: Option<String>,
     config: Option<String>,
     accept: Option<String>,
+    env: Vec<(String, String)>,
 }
 
 /// The result of one run.
@@ -27,7 +28,14 @@ impl Fixture {
     pub fn new() -> Fixture {
         let dir = tempfile::tempdir().expect("temp dir");
         std::fs::create_dir_all(dir.path().join("store")).expect("store dir");
-        Fixture { dir, answers: Vec::new(), principals: None, config: None, accept: None }
+        Fixture {
+            dir,
+            answers: Vec::new(),
+            principals: None,
+            config: None,
+            accept: None,
+            env: Vec::new(),
+        }
     }
 
     pub fn store(&self) -> PathBuf {
@@ -66,6 +74,17 @@ impl Fixture {
         self
     }
 
+    /// Sets an environment variable for the run.
+    pub fn env(mut self, key: &str, value: &str) -> Fixture {
+        self.env.push((key.to_owned(), value.to_owned()));
+        self
+    }
+
+    /// Path of a file in the fixture's folder.
+    pub fn path(&self, name: &str) -> PathBuf {
+        self.dir.path().join(name)
+    }
+
     pub fn accept(mut self, lines: &[Value]) -> Fixture {
         self.accept = Some(lines.iter().map(Value::to_string).collect::<Vec<_>>().join("\n"));
         self
@@ -77,9 +96,14 @@ impl Fixture {
         p
     }
 
+    /// Writes the answers log and returns its path.
+    pub fn write_answers(&self) -> PathBuf {
+        self.write("answers.jsonl", &(self.answers.join("\n") + "\n"))
+    }
+
     /// Runs `plumbline check` with the fixture's inputs and `extra` arguments.
     pub fn check(&self, extra: &[&str]) -> Run {
-        let answers = self.write("answers.jsonl", &(self.answers.join("\n") + "\n"));
+        let answers = self.write_answers();
         let json = self.dir.path().join("findings.json");
         let mut cmd = Command::new(env!("CARGO_BIN_EXE_plumbline"));
         cmd.arg("check")
@@ -100,6 +124,7 @@ impl Fixture {
             cmd.arg("--accept").arg(self.write("decisions.jsonl", a));
         }
         cmd.args(extra);
+        cmd.envs(self.env.iter().map(|(k, v)| (k, v)));
         let output = cmd.output().expect("run plumbline");
         let findings = std::fs::read_to_string(&json)
             .ok()

@@ -298,6 +298,13 @@ fn hostile_text_is_shown_as_text_and_runs_nothing() {
         "x\"><svg onload=alert(1)>",
         "<script>document.body.setAttribute('data-injected','by')</script>",
         "<script>alert(1)</script>",
+        "</style><style>body{display:none}</style>",
+        "background:url(javascript:document.body.setAttribute('data-injected','css-url'))",
+        "data:text/html;base64,PHNjcmlwdD5hbGVydCgxKTwvc2NyaXB0Pg==",
+        "{{ 7*7 }} and {% if true %}yes{% endif %} and ${7*7} and <%= 7*7 %>",
+        "h-7{{ 7*7 }}</div></td></table><plaintext>",
+        "CDATA[ x ]]> and &lt;escaped&gt; &amp;amp;",
+        "<iframe srcdoc=",
     ] {
         assert!(body.contains(needle), "{needle:?} is not shown as text");
     }
