@@ -21,7 +21,6 @@
 //! 6. findings are listed, reviewer decisions applied, and the gate decided.
 
 use std::borrow::Cow;
-use std::collections::HashMap;
 use std::ops::Range;
 
 use crate::access::{self, Entitlement, Principals};
@@ -39,7 +38,7 @@ use crate::store::Store;
 use crate::store::index::{DocSentences, Hit, Index, content_terms};
 use crate::support::{self, Claim, Params, Scorer, Shortlist, TokenCache, Unit, WindowMatch};
 use crate::text::sentences;
-use crate::text::tokens::unicode_words;
+use crate::text::tokens::{IdMap, unicode_words};
 
 /// Everything an answer is checked against, validated once per run.
 #[derive(Debug, Clone, Copy)]
@@ -219,7 +218,7 @@ fn joint_support<'a>(
     ctx: &Context<'a>,
     scorer: &Scorer<'_>,
     candidates: &[usize],
-    unit_cache: &HashMap<usize, Vec<Unit<'a>>>,
+    unit_cache: &IdMap<usize, Vec<Unit<'a>>>,
     resolved: &[Resolved<'_>],
     p: &Params,
     cache: &mut TokenCache,
@@ -351,7 +350,7 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
 
     let resolved: Vec<Resolved<'_>> =
         answer.citations.iter().map(|c| resolve(ctx.store, c, groups)).collect();
-    let mut unit_cache: HashMap<usize, Vec<Unit>> = HashMap::new();
+    let mut unit_cache: IdMap<usize, Vec<Unit>> = IdMap::default();
     // Tokens of passage sentences, shared by the answer's claims (texts outlive it).
     let mut tok_cache = TokenCache::default();
     let mut used_by: Vec<Vec<usize>> = vec![Vec::new(); resolved.len()];

@@ -315,6 +315,9 @@ fn is_alignable_content(t: &Token) -> bool {
     t.figure.is_none() && !is_negation(&t.text) && (!t.stop || is_term_word(&t.text))
 }
 
+/// A hash set keyed by ids, with [`crate::text::tokens::IdHasher`].
+type IdSet<K> = HashSet<K, std::hash::BuildHasherDefault<crate::text::tokens::IdHasher>>;
+
 /// Listed opposites (stems, both orders): see [`crate::text::lexicon`].
 static OPPOSITES: &LazyLock<HashSet<(String, String)>> = &lexicon::OPPOSITE_STEMS;
 
@@ -829,8 +832,10 @@ impl FuzzyMemo {
         }
         let (x, y) = (a.text.as_str(), b.text.as_str());
         // "valid"/"invalid" are close in spelling and opposite in sense.
-        let v =
-            if prefix_opposites(x, y) { 0.0 } else { similarity_at_least(x, y, self.threshold) };
+        let v = match similarity_at_least(x, y, self.threshold) {
+            v if v > 0.0 && prefix_opposites(x, y) => 0.0,
+            v => v,
+        };
         self.map.borrow_mut().insert(key, v);
         v
     }
@@ -999,7 +1004,7 @@ fn inspect(
     // Which claim tokens the window carries: the same stem, a listed synonym, the same
     // figure, or (for words the window lacks exactly) a fuzzy variant.
     let window_stems: HashSet<&str> = window.iter().map(|w| w.stem.as_str()).collect();
-    let window_ids: HashSet<u32> = window.iter().map(|w| w.id).collect();
+    let window_ids: IdSet<u32> = window.iter().map(|w| w.id).collect();
     let carried: Vec<bool> = claim
         .tokens
         .iter()
@@ -1233,8 +1238,8 @@ fn align(sa: &Side<'_>, sb: &Side<'_>, memo: &FuzzyMemo) -> Vec<(usize, usize)> 
     // Which pairs match, decided once (the table and the walk back both ask). Fuzzy
     // matches are only sought between words that have no exact partner on the other
     // side: a word present in both is aligned by its exact occurrence.
-    let ids_a: HashSet<u32> = a.iter().map(|t| t.id).collect();
-    let ids_b: HashSet<u32> = b.iter().map(|t| t.id).collect();
+    let ids_a: IdSet<u32> = a.iter().map(|t| t.id).collect();
+    let ids_b: IdSet<u32> = b.iter().map(|t| t.id).collect();
     let mut eq = vec![false; n * m];
     // Names are never spelling variants of each other ("ArgumentError" is not
     // "ArgumentParser"), and figures align only with figures they carry both ways
@@ -1588,12 +1593,12 @@ fn align_checks(a: &Side<'_>, b: &Side<'_>, memo: &FuzzyMemo) -> Aligned {
     let (names_a, names_b) = (names(a), names(b));
     // Window words the alignment left aside: a claim word among them, in the same window
     // sentence, was moved (a clause put in another order), not replaced.
-    let aligned_b: HashSet<usize> = pairs.iter().map(|&(_, j)| j).collect();
-    let loose_in = |r: Range<usize>| -> HashSet<u32> {
+    let aligned_b: IdSet<usize> = pairs.iter().map(|&(_, j)| j).collect();
+    let loose_in = |r: Range<usize>| -> IdSet<u32> {
         r.filter(|j| !aligned_b.contains(j)).map(|j| b.toks[j].id).collect()
     };
     // "non-blocking" against "blocking": the prefix written as a word of its own.
-    let aligned_a: HashSet<usize> = pairs.iter().map(|&(i, _)| i).collect();
+    let aligned_a: IdSet<usize> = pairs.iter().map(|&(i, _)| i).collect();
     for &(i, j) in &pairs {
         let non_a = i > 0 && a.toks[i - 1].text == "non" && !aligned_a.contains(&(i - 1));
         let non_b = j > 0 && b.toks[j - 1].text == "non" && !aligned_b.contains(&(j - 1));
