@@ -1050,20 +1050,21 @@ fn inspect(
         .collect();
     let matched: Vec<Range<usize>> = window
         .iter()
-        .filter(|w| {
-            w.is_content()
-                && (claim_stems.contains(w.stem.as_str())
-                    || w.figure.as_ref().is_some_and(|g| {
-                        claim
-                            .tokens
-                            .iter()
-                            .any(|c| c.figure.as_ref().is_some_and(|f| f.is_carried_by(g)))
-                    })
-                    || (w.figure.is_none()
-                        && fuzzy_claim.iter().any(|c| {
+        .filter(|w| match &w.figure {
+            // A figure is marked only where it carries one of the claim (same value and
+            // a compatible unit: "5 minutes" is not marked for "5 hours").
+            Some(g) => claim
+                .tokens
+                .iter()
+                .any(|c| c.figure.as_ref().is_some_and(|f| f.is_carried_by(g))),
+            None => {
+                !w.stop
+                    && (claim_stems.contains(w.stem.as_str())
+                        || fuzzy_claim.iter().any(|c| {
                             fuzzy_length_ok(c.text.chars().count(), &c.text, &w.text)
                                 && memo.get(c, w) > 0.0
-                        })))
+                        }))
+            }
         })
         .map(|w| w.start..w.end)
         .collect();
