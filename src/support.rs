@@ -1053,10 +1053,9 @@ fn inspect(
         .filter(|w| match &w.figure {
             // A figure is marked only where it carries one of the claim (same value and
             // a compatible unit: "5 minutes" is not marked for "5 hours").
-            Some(g) => claim
-                .tokens
-                .iter()
-                .any(|c| c.figure.as_ref().is_some_and(|f| f.is_carried_by(g))),
+            Some(g) => {
+                claim.tokens.iter().any(|c| c.figure.as_ref().is_some_and(|f| f.is_carried_by(g)))
+            }
             None => {
                 !w.stop
                     && (claim_stems.contains(w.stem.as_str())

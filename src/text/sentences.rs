@@ -48,102 +48,80 @@ pub fn uax29(text: &str) -> Vec<Range<usize>> {
     text.split_sentence_bound_indices().map(|(i, s)| i..i + s.len()).collect()
 }
 
-/// Sentence_Break property values that ASCII characters take (UAX #29, table 4).
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
-enum Sb {
-    Cr,
-    Lf,
-    Sp,
-    Lower,
-    Upper,
-    Numeric,
-    ATerm,
-    STerm,
-    SContinue,
-    Close,
-    Other,
-}
-
-fn sb(b: u8) -> Sb {
-    match b {
-        b'\r' => Sb::Cr,
-        b'\n' => Sb::Lf,
-        b'\t' | 0x0B | 0x0C | b' ' => Sb::Sp,
-        b'a'..=b'z' => Sb::Lower,
-        b'A'..=b'Z' => Sb::Upper,
-        b'0'..=b'9' => Sb::Numeric,
-        b'.' => Sb::ATerm,
-        b'!' | b'?' => Sb::STerm,
-        b',' | b'-' | b':' | b';' => Sb::SContinue,
-        b'"' | b'\'' | b'(' | b')' | b'[' | b']' | b'{' | b'}' => Sb::Close,
-        _ => Sb::Other,
-    }
-}
-
-/// UAX #29 sentence boundaries of ASCII text (rules SB1–SB11; SB5 has nothing to skip,
-/// as no ASCII character is Extend or Format, and none is Sep or OLetter).
-fn uax29_ascii(text: &[u8]) -> Vec<Range<usize>> {
-    let n = text.len();
+/// UAX #29 sentence boundaries of ASCII text (rules SB1–SB11, table 4's classes as ASCII
+/// characters take them: SB5 has nothing to skip, as no ASCII character is Extend or
+/// Format, and none is Sep or OLetter).
+///
+/// A boundary can only follow a paragraph separator (SB4) or the run "SATerm Close* Sp*"
+/// (SB11), so the text is walked from one `.` `!` `?` CR or LF to the next, and at each
+/// terminator the rules that forbid a break there (SB6–SB10) are asked in turn. SB8
+/// looks ahead to the next letter, separator or terminator; the answer is remembered, so
+/// the walk stays linear however the text is built.
+fn uax29_ascii(b: &[u8]) -> Vec<Range<usize>> {
+    let n = b.len();
     let mut out = Vec::new();
     if n == 0 {
         return out;
     }
-    let cat: Vec<Sb> = text.iter().map(|&b| sb(b)).collect();
-    let para = |c: Sb| matches!(c, Sb::Cr | Sb::Lf);
-    let saterm = |c: Sb| matches!(c, Sb::ATerm | Sb::STerm);
-    // For SB8's look-ahead: the category of the first letter, paragraph separator or
-    // sentence terminator at or after each position (one backward pass, so the rule
-    // costs O(1) per position however the text is built).
-    let mut ahead = vec![None; n + 1];
-    for i in (0..n).rev() {
-        let c = cat[i];
-        ahead[i] = if matches!(c, Sb::Upper | Sb::Lower) || para(c) || saterm(c) {
-            Some(c)
-        } else {
-            ahead[i + 1]
-        };
-    }
-    // Where the run of Sp (of Close) that ends just before each position begins, so
-    // that looking back over "SATerm Close* Sp*" is O(1) too.
-    let mut sp_from = vec![0; n + 1];
-    let mut close_from = vec![0; n + 1];
-    for i in 0..=n {
-        sp_from[i] = if i > 0 && cat[i - 1] == Sb::Sp { sp_from[i - 1] } else { i };
-        close_from[i] = if i > 0 && cat[i - 1] == Sb::Close { close_from[i - 1] } else { i };
-    }
-    let mut start = 0;
-    for i in 1..n {
-        let (prev, cur) = (cat[i - 1], cat[i]);
-        let brk = if prev == Sb::Cr && cur == Sb::Lf {
-            false // SB3
-        } else if para(prev) {
-            true // SB4
-        } else if prev == Sb::ATerm
-            && (cur == Sb::Numeric // SB6
-                || (cur == Sb::Upper && i >= 2 && matches!(cat[i - 2], Sb::Upper | Sb::Lower)))
-        {
-            false // SB6, SB7
-        } else {
-            // Does text[..i] end with SATerm Close* Sp*?
-            let k = sp_from[i];
-            let spaces = k < i;
-            let k = close_from[k];
-            if k == 0 || !saterm(cat[k - 1]) {
-                false // SB998
-            } else {
-                let aterm = cat[k - 1] == Sb::ATerm;
-                // SB8: ATerm Close* Sp* × (¬(OLetter|Upper|Lower|ParaSep|SATerm))* Lower
-                let sb8 = aterm && ahead[i] == Some(Sb::Lower);
-                let sb8a = matches!(cur, Sb::SContinue | Sb::ATerm | Sb::STerm);
-                let sb9 = !spaces && (cur == Sb::Close || cur == Sb::Sp || para(cur));
-                let sb10 = cur == Sb::Sp || para(cur);
-                !(sb8 || sb8a || sb9 || sb10) // SB11 breaks
-            }
-        };
-        if brk {
-            out.push(start..i);
-            start = i;
+    let close = |c: u8| matches!(c, b'"' | b'\'' | b'(' | b')' | b'[' | b']' | b'{' | b'}');
+    let sp = |c: u8| matches!(c, b'\t' | 0x0B | 0x0C | b' ');
+    let para = |c: u8| c == b'\r' || c == b'\n';
+    let saterm = |c: u8| matches!(c, b'.' | b'!' | b'?');
+    // SB8's look-ahead: the first letter, separator or terminator at or after a position.
+    let significant = |c: u8| c.is_ascii_alphabetic() || para(c) || saterm(c);
+    let (mut sig_from, mut sig_at) = (0usize, 0usize);
+    let mut first_significant = |q: usize| -> usize {
+        if !(sig_from <= q && q <= sig_at) {
+            sig_at = (q..n).find(|&k| significant(b[k])).unwrap_or(n);
         }
+        sig_from = q;
+        sig_at
+    };
+    let (mut start, mut i) = (0usize, 0usize);
+    while i < n {
+        let c = b[i];
+        if para(c) {
+            // SB3 keeps CR LF together; SB4 breaks after the separator.
+            let end = if c == b'\r' && b.get(i + 1) == Some(&b'\n') { i + 2 } else { i + 1 };
+            if end < n {
+                out.push(start..end);
+                start = end;
+            }
+            i = end;
+            continue;
+        }
+        if !saterm(c) {
+            i += 1;
+            continue;
+        }
+        let aterm = c == b'.';
+        let mut j = i + 1;
+        while j < n && close(b[j]) {
+            j += 1;
+        }
+        while j < n && sp(b[j]) {
+            j += 1;
+        }
+        // SB9, SB10: no break before a separator; SB4 breaks after it.
+        if j >= n || para(b[j]) {
+            i = j;
+            continue;
+        }
+        let next = b[j];
+        let direct = j == i + 1;
+        let keep = (aterm && direct && next.is_ascii_digit()) // SB6
+            || (aterm
+                && direct
+                && next.is_ascii_uppercase()
+                && i > 0
+                && b[i - 1].is_ascii_alphabetic()) // SB7
+            || (aterm && b.get(first_significant(j)).is_some_and(u8::is_ascii_lowercase)) // SB8
+            || matches!(next, b',' | b'-' | b':' | b';' | b'.' | b'!' | b'?'); // SB8a
+        if !keep {
+            out.push(start..j); // SB11
+            start = j;
+        }
+        i = j;
     }
     out.push(start..n);
     out

@@ -300,12 +300,55 @@ pub fn token_ids(original: &str) -> TokenIds {
             out.figures.push(f);
         }
         Item::Word(_, _, word) => {
-            let (id, stop) = with_word(word, |w| (w.id, w.stop));
+            let (id, stop) = word_id(word);
             out.ids.push(id);
             out.content.push(!stop);
         }
     });
     out
+}
+
+/// One slot of [`word_id`]'s table: a word of up to 24 bytes, zero-padded.
+#[derive(Clone, Copy, Default)]
+struct Slot {
+    key: [u64; 3],
+    len: u8,
+    id: u32,
+    stop: bool,
+}
+
+/// The stem id and stop-word flag of `word`, through a direct-mapped table of recent
+/// short words in front of [`with_word`]'s cache: a store's text repeats a small
+/// vocabulary, and comparing three machine words is cheaper than hashing and comparing
+/// a string. Equal to `with_word(word, |w| (w.id, w.stop))` (a slot holds the whole word,
+/// so a hit is exact).
+fn word_id(word: &str) -> (u32, bool) {
+    const BITS: u32 = 12;
+    thread_local! {
+        static TABLE: std::cell::RefCell<Vec<Slot>> =
+            std::cell::RefCell::new(vec![Slot::default(); 1 << BITS]);
+    }
+    let bytes = word.as_bytes();
+    if bytes.is_empty() || bytes.len() > 24 {
+        return with_word(word, |w| (w.id, w.stop));
+    }
+    let mut padded = [0u8; 24];
+    padded[..bytes.len()].copy_from_slice(bytes);
+    let key = [0, 1, 2]
+        .map(|i| u64::from_le_bytes(padded[i * 8..i * 8 + 8].try_into().unwrap_or([0; 8])));
+    let h = (key[0] ^ key[1].rotate_left(21) ^ key[2].rotate_left(42) ^ bytes.len() as u64)
+        .wrapping_mul(0x9E37_79B9_7F4A_7C15);
+    let at = (h >> (64 - BITS)) as usize;
+    TABLE.with(|t| {
+        let mut t = t.borrow_mut();
+        let slot = &mut t[at];
+        if usize::from(slot.len) == bytes.len() && slot.key == key {
+            return (slot.id, slot.stop);
+        }
+        let (id, stop) = with_word(word, |w| (w.id, w.stop));
+        *slot = Slot { key, len: bytes.len() as u8, id, stop };
+        (id, stop)
+    })
 }
 
 /// The default tokeniser of `plumbline score`: NFKC, case-folded Unicode words.
