@@ -12,11 +12,10 @@ use serde::Serialize;
 use serde_json::Value;
 
 use super::{Outcome, UsageError};
-use crate::metrics::bleu::{self, Bleu};
+use crate::metrics::bleu::Bleu;
 use crate::metrics::fuzzy;
-use crate::metrics::rouge::{self, Prf};
-use crate::text::stem::stem_if_long;
-use crate::text::tokens::{ascii_alnum_words, unicode_words};
+use crate::metrics::pair::{PairMetrics, PairScorer, RougeTokens};
+use crate::metrics::rouge::Prf;
 
 /// Which tokens ROUGE compares.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum, Default)]
@@ -78,22 +77,29 @@ pub struct Scores {
     pub jaro_winkler: f64,
 }
 
+impl From<Tokenizer> for RougeTokens {
+    fn from(t: Tokenizer) -> RougeTokens {
+        match t {
+            Tokenizer::Unicode => RougeTokens::Unicode,
+            Tokenizer::AsciiAlnum => RougeTokens::AsciiAlnum,
+        }
+    }
+}
+
 /// Computes every metric of `score` for one pair.
 pub fn score_pair(candidate: &str, reference: &str, tokenizer: Tokenizer, stem: bool) -> Scores {
-    let tok = |s: &str| {
-        let words = match tokenizer {
-            Tokenizer::Unicode => unicode_words(s),
-            Tokenizer::AsciiAlnum => ascii_alnum_words(s),
-        };
-        if stem { words.iter().map(|w| stem_if_long(w)).collect() } else { words }
-    };
-    let (c, r) = (tok(candidate), tok(reference));
+    score_with(&mut PairScorer::new(tokenizer.into(), stem), candidate, reference)
+}
+
+/// [`score_pair`] with a scorer kept across pairs.
+fn score_with(scorer: &mut PairScorer, candidate: &str, reference: &str) -> Scores {
+    let PairMetrics { rouge1, rouge2, rouge_l, bleu } = scorer.score(candidate, reference);
     Scores {
         id: None,
-        rouge1: rouge::rouge_n(&c, &r, 1),
-        rouge2: rouge::rouge_n(&c, &r, 2),
-        rouge_l: rouge::rouge_l(&c, &r),
-        bleu: bleu::sentence_bleu(candidate, &[reference]),
+        rouge1,
+        rouge2,
+        rouge_l,
+        bleu,
         levenshtein: Levenshtein {
             distance: fuzzy::levenshtein(candidate, reference),
             similarity: fuzzy::levenshtein_similarity(candidate, reference),
@@ -157,6 +163,7 @@ pub fn execute(args: &ScoreArgs) -> Result<Outcome> {
                     .map_err(|e| UsageError(format!("cannot read {}: {e}", path.display())))?;
                 Box::new(BufReader::new(f))
             };
+            let mut scorer = PairScorer::new(args.tokenizer.into(), args.stem);
             let mut bad = 0usize;
             for (i, line) in reader.split(b'\n').enumerate() {
                 let line_no = i + 1;
@@ -182,7 +189,7 @@ pub fn execute(args: &ScoreArgs) -> Result<Outcome> {
                 }
                 match parse_pair(text) {
                     (id, Ok((c, r))) => {
-                        let mut s = score_pair(&c, &r, args.tokenizer, args.stem);
+                        let mut s = score_with(&mut scorer, &c, &r);
                         s.id = id;
                         serde_json::to_writer(&mut out, &s)?;
                     }

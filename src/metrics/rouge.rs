@@ -26,7 +26,8 @@ pub struct Prf {
 }
 
 impl Prf {
-    fn new(precision: f64, recall: f64) -> Prf {
+    /// Precision and recall with their harmonic mean ([`super::fmeasure`]).
+    pub fn new(precision: f64, recall: f64) -> Prf {
         Prf { precision, recall, f: fmeasure(precision, recall) }
     }
 }
@@ -121,12 +122,21 @@ pub struct LcsTable {
 impl LcsTable {
     /// Prepares `a`, whose symbols must be below `alphabet`.
     pub fn new(a: &[u32], alphabet: usize) -> LcsTable {
+        let mut table = LcsTable { blocks: 0, masks: Vec::new(), alphabet: 0 };
+        table.prepare(a, alphabet);
+        table
+    }
+
+    /// Prepares `a` in place of the sequence prepared before, reusing the memory.
+    pub fn prepare(&mut self, a: &[u32], alphabet: usize) {
         let blocks = a.len().div_ceil(64).max(1);
-        let mut masks = vec![0u64; alphabet * blocks];
+        self.masks.clear();
+        self.masks.resize(alphabet * blocks, 0);
         for (i, &sym) in a.iter().enumerate() {
-            masks[sym as usize * blocks + i / 64] |= 1u64 << (i % 64);
+            self.masks[sym as usize * blocks + i / 64] |= 1u64 << (i % 64);
         }
-        LcsTable { blocks, masks, alphabet }
+        self.blocks = blocks;
+        self.alphabet = alphabet;
     }
 
     /// LCS length of the prepared sequence and `b`; symbols of `b` outside the alphabet

@@ -1,0 +1,477 @@
+//! The lexical metrics of one candidate/reference pair, computed together: ROUGE-1,
+//! ROUGE-2 and ROUGE-L over words (optionally Snowball stems) and sentence BLEU.
+//!
+//! [`PairScorer`] gives exactly what the separate functions give —
+//! [`unicode_words`](crate::text::tokens::unicode_words) or
+//! [`ascii_alnum_words`], [`stem_if_long`], [`rouge_n`](super::rouge::rouge_n),
+//! [`rouge_l`](super::rouge::rouge_l) and [`sentence_bleu`](super::bleu::sentence_bleu),
+//! bit for bit (tested) — but is built to score many pairs: `plumbline score --pairs`
+//! and the metrics benchmark run every pair through one scorer. What makes it cheaper:
+//!
+//! * every distinct word is stemmed once: a cache maps a word to a small integer, the id
+//!   of its unit (its stem when stemming, else the word), so that different words with the
+//!   same stem share an id exactly (no hashing of stems into ids that could collide);
+//! * per pair, the candidate's units get dense local ids and every reference unit absent
+//!   from the candidate is marked absent, so ROUGE-1 is counting in an array, ROUGE-2 looks
+//!   up only bigrams whose two units both occur in the candidate, and ROUGE-L is one
+//!   64-bit-block pass of the bit-parallel LCS per reference token;
+//! * BLEU reuses its token buffers and counts n-grams over ids
+//!   ([`SentenceBleu`]).
+//!
+//! The cache is emptied when it passes [`CACHE_WORDS`] words or [`CACHE_BYTES`] bytes, so
+//! memory stays bounded however many distinct words the input holds. Its hash is FxHash,
+//! not a keyed one: text crafted to collide could slow lookups down, never change a result.
+
+use rustc_hash::FxHashMap;
+
+use super::StrIds;
+use super::bleu::{Bleu, SentenceBleu};
+use super::rouge::{LcsTable, Prf};
+use crate::text::normalize::fold;
+use crate::text::stem::stem_if_long;
+use crate::text::tokens::{ascii_alnum_words, word_spans};
+
+/// Words the cache holds at most before it is emptied.
+pub const CACHE_WORDS: usize = 1 << 20;
+
+/// Bytes of words and units the cache holds at most before it is emptied.
+pub const CACHE_BYTES: usize = 64 << 20;
+
+/// Which words ROUGE compares (BLEU always uses the `13a` tokenisation).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum RougeTokens {
+    /// [`unicode_words`](crate::text::tokens::unicode_words): NFKC, case-folded Unicode
+    /// words.
+    #[default]
+    Unicode,
+    /// [`ascii_alnum_words`]: lower-case, every run outside `a-z0-9` separates, as the
+    /// `rouge-score` package tokenises.
+    AsciiAlnum,
+}
+
+/// ROUGE-1, ROUGE-2, ROUGE-L and sentence BLEU of one pair.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PairMetrics {
+    /// ROUGE-1.
+    pub rouge1: Prf,
+    /// ROUGE-2.
+    pub rouge2: Prf,
+    /// ROUGE-L.
+    pub rouge_l: Prf,
+    /// Sentence BLEU (13a, `exp` smoothing, effective order).
+    pub bleu: Bleu,
+}
+
+/// Marks a reference unit that the candidate does not hold.
+const ABSENT: u32 = u32::MAX;
+
+/// Scores pairs; keep one for many pairs. See the module documentation.
+#[derive(Debug, Clone)]
+pub struct PairScorer {
+    tokens: RougeTokens,
+    stem: bool,
+    /// Word → id of its unit.
+    words: StrIds,
+    /// Unit → id, when stemming (without stemming a word is its own unit).
+    units: StrIds,
+    units_len: u32,
+    cached_bytes: usize,
+    /// Per unit id: the pair (`stamp`) in which it last got a local id, and that id.
+    local: Vec<(u32, u32)>,
+    stamp: u32,
+    /// Local ids of the candidate's units, in order.
+    cand: Vec<u32>,
+    /// Local ids of the reference's units, in order, [`ABSENT`] for units not in the
+    /// candidate.
+    refr: Vec<u32>,
+    /// Lower-cased ASCII text.
+    lower: String,
+    cand_counts: Vec<u32>,
+    ref_counts: Vec<u32>,
+    bigrams: FxHashMap<u64, u32>,
+    lcs: LcsTable,
+    bleu: SentenceBleu,
+}
+
+impl PairScorer {
+    /// A scorer that compares `tokens` for ROUGE, stemmed with Snowball English (words of
+    /// more than three characters) when `stem` is set.
+    pub fn new(tokens: RougeTokens, stem: bool) -> PairScorer {
+        PairScorer {
+            tokens,
+            stem,
+            words: StrIds::default(),
+            units: StrIds::default(),
+            units_len: 0,
+            cached_bytes: 0,
+            local: Vec::new(),
+            stamp: 0,
+            cand: Vec::new(),
+            refr: Vec::new(),
+            lower: String::new(),
+            cand_counts: Vec::new(),
+            ref_counts: Vec::new(),
+            bigrams: FxHashMap::default(),
+            lcs: LcsTable::new(&[], 0),
+            bleu: SentenceBleu::default(),
+        }
+    }
+
+    /// The metrics of `candidate` (the text judged) against `reference`.
+    pub fn score(&mut self, candidate: &str, reference: &str) -> PairMetrics {
+        if self.words.len() > CACHE_WORDS || self.cached_bytes > CACHE_BYTES {
+            self.words.clear();
+            self.units.clear();
+            self.units_len = 0;
+            self.cached_bytes = 0;
+            self.local.clear();
+        }
+        self.stamp = self.stamp.wrapping_add(1);
+        if self.stamp == 0 {
+            // Stamps wrapped: forget every old one.
+            self.local.iter_mut().for_each(|e| e.0 = 0);
+            self.stamp = 1;
+        }
+        let mut cand = std::mem::take(&mut self.cand);
+        let mut refr = std::mem::take(&mut self.refr);
+        cand.clear();
+        refr.clear();
+        // Candidate units get local ids 0, 1, … in order of first occurrence.
+        let mut distinct = 0u32;
+        self.for_each_unit(candidate, |me, unit| {
+            let e = &mut me.local[unit as usize];
+            if e.0 != me.stamp {
+                *e = (me.stamp, distinct);
+                distinct += 1;
+            }
+            cand.push(e.1);
+        });
+        self.for_each_unit(reference, |me, unit| {
+            let e = me.local[unit as usize];
+            refr.push(if e.0 == me.stamp { e.1 } else { ABSENT });
+        });
+        let k = distinct as usize;
+        let rouge1 = self.rouge1(&cand, &refr, k);
+        let rouge2 = self.rouge2(&cand, &refr);
+        let rouge_l = if cand.is_empty() || refr.is_empty() {
+            Prf::default()
+        } else {
+            self.lcs.prepare(&cand, k);
+            let lcs = self.lcs.len_with(refr.iter().copied());
+            Prf::new(lcs as f64 / cand.len() as f64, lcs as f64 / refr.len() as f64)
+        };
+        self.cand = cand;
+        self.refr = refr;
+        PairMetrics { rouge1, rouge2, rouge_l, bleu: self.bleu.score(candidate, reference) }
+    }
+
+    /// ROUGE-1 over local ids: counts in arrays, the clipped overlap their minima.
+    fn rouge1(&mut self, cand: &[u32], refr: &[u32], k: usize) -> Prf {
+        self.cand_counts.clear();
+        self.cand_counts.resize(k, 0);
+        self.ref_counts.clear();
+        self.ref_counts.resize(k, 0);
+        for &c in cand {
+            self.cand_counts[c as usize] += 1;
+        }
+        for &r in refr {
+            if r != ABSENT {
+                self.ref_counts[r as usize] += 1;
+            }
+        }
+        let overlap: usize =
+            self.cand_counts.iter().zip(&self.ref_counts).map(|(&c, &r)| c.min(r) as usize).sum();
+        overlap_prf(overlap, cand.len(), refr.len())
+    }
+
+    /// ROUGE-2: the candidate's bigrams in a table, the reference's looked up only when
+    /// both of their units occur in the candidate.
+    fn rouge2(&mut self, cand: &[u32], refr: &[u32]) -> Prf {
+        let key = |a: u32, b: u32| (u64::from(a) << 32) | u64::from(b);
+        self.bigrams.clear();
+        self.cand_counts.clear();
+        for w in cand.windows(2) {
+            let next = self.cand_counts.len() as u32;
+            let slot = *self.bigrams.entry(key(w[0], w[1])).or_insert(next);
+            if slot == next {
+                self.cand_counts.push(0);
+            }
+            self.cand_counts[slot as usize] += 1;
+        }
+        self.ref_counts.clear();
+        self.ref_counts.resize(self.cand_counts.len(), 0);
+        for w in refr.windows(2) {
+            if w[0] != ABSENT && w[1] != ABSENT {
+                if let Some(&slot) = self.bigrams.get(&key(w[0], w[1])) {
+                    self.ref_counts[slot as usize] += 1;
+                }
+            }
+        }
+        let overlap: usize =
+            self.cand_counts.iter().zip(&self.ref_counts).map(|(&c, &r)| c.min(r) as usize).sum();
+        overlap_prf(overlap, cand.len().saturating_sub(1), refr.len().saturating_sub(1))
+    }
+
+    /// Calls `f` with the unit id of every ROUGE word of `text`, in order.
+    fn for_each_unit(&mut self, text: &str, mut f: impl FnMut(&mut Self, u32)) {
+        match self.tokens {
+            RougeTokens::Unicode => {
+                // Non-ASCII characters are rare in most text, and the Unicode path is dear,
+                // so only the stretches around them take it. A stretch ends after a space
+                // that an ASCII byte follows: a word boundary (UAX #29: no rule joins
+                // across a space unless an extending or format character, never ASCII,
+                // follows it), and a place where `normalize` starts afresh (it handles
+                // each ASCII byte followed by an ASCII byte on its own).
+                let b = text.as_bytes();
+                let cut = |p: usize| b[p - 1] == b' ' && b[p].is_ascii();
+                let mut pos = 0;
+                while pos < b.len() {
+                    let Some(off) = b[pos..].iter().position(|c| !c.is_ascii()) else {
+                        self.ascii_words(&text[pos..], &mut f);
+                        break;
+                    };
+                    let k = pos + off;
+                    let start = (pos + 1..=k).rev().find(|&p| cut(p)).unwrap_or(pos);
+                    let end = (k + 1..b.len()).find(|&p| cut(p)).unwrap_or(b.len());
+                    self.ascii_words(&text[pos..start], &mut f);
+                    let folded = fold(&text[start..end]);
+                    for (s, e) in word_spans(&folded) {
+                        let unit = self.unit(&folded[s..e]);
+                        f(self, unit);
+                    }
+                    pos = end;
+                }
+            }
+            RougeTokens::AsciiAlnum if text.is_ascii() => {
+                let mut lower = std::mem::take(&mut self.lower);
+                lower.clear();
+                lower.push_str(text);
+                lower.make_ascii_lowercase();
+                let words = lower.split(|c: char| !c.is_ascii_lowercase() && !c.is_ascii_digit());
+                for w in words.filter(|w| !w.is_empty()) {
+                    let unit = self.unit(w);
+                    f(self, unit);
+                }
+                self.lower = lower;
+            }
+            RougeTokens::AsciiAlnum => {
+                for w in ascii_alnum_words(text) {
+                    let unit = self.unit(&w);
+                    f(self, unit);
+                }
+            }
+        }
+    }
+
+    /// [`RougeTokens::Unicode`] words of ASCII text: [`fold`] is lower-casing (and the
+    /// backtick made an apostrophe), done here into a buffer kept across pairs.
+    fn ascii_words(&mut self, text: &str, f: &mut impl FnMut(&mut Self, u32)) {
+        if text.is_empty() {
+            return;
+        }
+        let mut lower = std::mem::take(&mut self.lower);
+        lower.clear();
+        lower.push_str(text);
+        lower.make_ascii_lowercase();
+        if lower.contains('`') {
+            lower = lower.replace('`', "'");
+        }
+        for (s, e) in word_spans(&lower) {
+            let unit = self.unit(&lower[s..e]);
+            f(self, unit);
+        }
+        self.lower = lower;
+    }
+
+    /// The unit id of `word`, stemming and caching it on first sight.
+    fn unit(&mut self, word: &str) -> u32 {
+        if let Some(id) = self.words.get(word) {
+            return id;
+        }
+        let id = if self.stem {
+            let stem = stem_if_long(word);
+            match self.units.get(&stem) {
+                Some(id) => id,
+                None => {
+                    let id = self.new_unit();
+                    self.cached_bytes += stem.len();
+                    self.units.insert(&stem, id);
+                    id
+                }
+            }
+        } else {
+            self.new_unit()
+        };
+        self.cached_bytes += word.len();
+        self.words.insert(word, id);
+        id
+    }
+
+    fn new_unit(&mut self) -> u32 {
+        let id = self.units_len;
+        self.units_len += 1;
+        self.local.push((0, 0));
+        id
+    }
+}
+
+/// ROUGE-N's precision and recall from the clipped overlap and the two n-gram totals,
+/// with `rouge-score`'s `max(total, 1)` guard, in the same operations as
+/// [`rouge_n`](super::rouge::rouge_n).
+fn overlap_prf(overlap: usize, cand_total: usize, ref_total: usize) -> Prf {
+    Prf::new(overlap as f64 / cand_total.max(1) as f64, overlap as f64 / ref_total.max(1) as f64)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::metrics::bleu::sentence_bleu;
+    use crate::metrics::rouge::{rouge_l, rouge_n};
+    use crate::text::tokens::unicode_words;
+
+    /// The metrics composed from the separate functions, as `plumbline score` composed
+    /// them before [`PairScorer`] existed.
+    fn composed(c: &str, r: &str, tokens: RougeTokens, stem: bool) -> PairMetrics {
+        let tok = |s: &str| {
+            let words = match tokens {
+                RougeTokens::Unicode => unicode_words(s),
+                RougeTokens::AsciiAlnum => ascii_alnum_words(s),
+            };
+            if stem { words.iter().map(|w| stem_if_long(w)).collect() } else { words }
+        };
+        let (cw, rw) = (tok(c), tok(r));
+        PairMetrics {
+            rouge1: rouge_n(&cw, &rw, 1),
+            rouge2: rouge_n(&cw, &rw, 2),
+            rouge_l: rouge_l(&cw, &rw),
+            bleu: sentence_bleu(c, &[r]),
+        }
+    }
+
+    fn texts() -> Vec<String> {
+        // Words that stem together, short words, figures, punctuation, case, accents,
+        // ligatures and full-width forms, curly quotes, `ß`, a Kelvin sign, CJK, an emoji;
+        // and, for the stretches of non-ASCII text, characters that join what precedes
+        // them (combining marks, joiners) or vanish (zero-width space, soft hyphen), so
+        // that they also land right after a space, and non-ASCII spaces.
+        let pieces = [
+            "the",
+            "a",
+            "of",
+            "closing",
+            "closed",
+            "closes",
+            "close",
+            "running",
+            "runs",
+            "was",
+            "Report",
+            "REPORTS",
+            "reported",
+            "3.5",
+            "1,200",
+            "2026-03-04",
+            "12%",
+            "$40",
+            ",",
+            ".",
+            "(",
+            ")",
+            "-",
+            "'",
+            "`",
+            "don't",
+            "e.g.",
+            "café",
+            "Cafe\u{301}",
+            "ﬁle",
+            "ＡＰＩ",
+            "“quoted”",
+            "it’s",
+            "Straße",
+            "\u{212a}elvin",
+            "İstel",
+            "ǅ",
+            "文档",
+            "👍",
+            "👩\u{200d}💻",
+            "x_y",
+            "well-known",
+            "\u{301}",
+            "\u{200d}",
+            "\u{200b}",
+            "\u{ad}",
+            "\u{a0}",
+            "\u{3000}",
+            " ",
+            " ",
+            " ",
+            "  ",
+            "\n",
+            "\r\n",
+            "\t",
+        ];
+        let mut x: u64 = 0x0DDB_1A5E_5BAD_5EED;
+        let mut next = move || {
+            x ^= x << 13;
+            x ^= x >> 7;
+            x ^= x << 17;
+            x
+        };
+        let mut out = vec![String::new(), " ".into(), "...".into()];
+        for _ in 0..1_500 {
+            let n = (next() % 40) as usize;
+            let mut s = String::new();
+            for _ in 0..n {
+                s.push_str(pieces[(next() % pieces.len() as u64) as usize]);
+                if next() % 3 != 0 {
+                    s.push(' ');
+                }
+            }
+            out.push(s);
+        }
+        out
+    }
+
+    #[test]
+    fn scorer_equals_the_composed_functions_bit_for_bit() {
+        let texts = texts();
+        for tokens in [RougeTokens::Unicode, RougeTokens::AsciiAlnum] {
+            for stem in [false, true] {
+                // One scorer for all pairs, so the cache and the stamps are exercised.
+                let mut scorer = PairScorer::new(tokens, stem);
+                for (i, c) in texts.iter().enumerate() {
+                    let r = &texts[(i * 7 + 3) % texts.len()];
+                    for (c, r) in [(c, r), (c, c), (r, c)] {
+                        let ours = scorer.score(c, r);
+                        let want = composed(c, r, tokens, stem);
+                        assert_eq!(ours, want, "{tokens:?} stem={stem} c={c:?} r={r:?}");
+                    }
+                }
+            }
+        }
+    }
+
+    #[test]
+    fn cache_limit_empties_the_cache_without_changing_results() {
+        let mut scorer = PairScorer::new(RougeTokens::Unicode, true);
+        let texts = texts();
+        let first: Vec<PairMetrics> =
+            texts.windows(2).map(|w| scorer.score(&w[0], &w[1])).collect();
+        // Force the limit: the next pair starts from an emptied cache...
+        scorer.cached_bytes = CACHE_BYTES + 1;
+        let (c, r) = ("closing closed", "Closes the report");
+        let m = scorer.score(c, r);
+        assert_eq!(scorer.words.len(), 5, "only this pair's words are cached");
+        assert_eq!(m, composed(c, r, RougeTokens::Unicode, true));
+        // ...and gives the same results as before.
+        let again: Vec<PairMetrics> =
+            texts.windows(2).map(|w| scorer.score(&w[0], &w[1])).collect();
+        assert_eq!(first, again);
+        // Wrapped stamps are forgotten, not mistaken for the current pair's.
+        scorer.stamp = u32::MAX;
+        let wrapped: Vec<PairMetrics> =
+            texts.windows(2).map(|w| scorer.score(&w[0], &w[1])).collect();
+        assert_eq!(first, wrapped);
+    }
+}
