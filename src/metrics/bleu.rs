@@ -16,10 +16,11 @@
 
 use std::collections::HashMap;
 
-use rustc_hash::FxHashMap;
 use serde::Serialize;
 
-use super::StrIds;
+use rustc_hash::FxHashMap;
+
+use super::{NgramTable, NonAlnum, StrIds};
 
 /// Highest n-gram order.
 pub const MAX_ORDER: usize = 4;
@@ -127,14 +128,15 @@ impl Tokens13a {
         // sacrebleu's preprocessing, in its order; each step is skipped only when it
         // would change nothing.
         let mut owned: Option<String> = None;
-        if line.contains("<skipped>") {
+        let rare = memchr::memchr3(b'<', b'\n', b'&', line.as_bytes()).is_some();
+        if rare && line.contains("<skipped>") {
             owned = Some(line.replace("<skipped>", ""));
         }
-        if owned.as_deref().unwrap_or(line).contains('\n') {
+        if rare && owned.as_deref().unwrap_or(line).contains('\n') {
             let s = owned.as_deref().unwrap_or(line);
             owned = Some(s.replace("-\n", "").replace('\n', " "));
         }
-        if owned.as_deref().unwrap_or(line).contains('&') {
+        if rare && owned.as_deref().unwrap_or(line).contains('&') {
             let s = owned.as_deref().unwrap_or(line);
             owned = Some(
                 s.replace("&quot;", "\"")
@@ -145,38 +147,81 @@ impl Tokens13a {
         }
         let mut text = std::mem::take(&mut self.text);
         text.push_str(owned.as_deref().unwrap_or(line));
-        // Chunks between white space; a chunk with no symbol, stop, comma or hyphen is a
-        // token as it stands.
+        // Chunks between white space, cut into tokens at the characters the rules set
+        // apart. Only the bytes that are not ASCII letters or digits need a look: where no
+        // two full stops or commas ("stops") touch, the rules reduce to one test per such
+        // character with its two neighbours — a symbol of rule 1 stands alone; a stop
+        // stands alone unless it has a digit on both sides (rule 2 parts it when the left
+        // one is not a digit, rule 3 when the right one is not); a hyphen stands alone
+        // after a digit (rule 4). White space and the ends of the line are not digits.
+        // Touching stops make rule 2's matches depend on one another, so such a chunk is
+        // tokenised again the literal way.
         let b = text.as_bytes();
-        let mut i = 0;
-        let mut start = 0;
-        let mut in_chunk = false;
-        let mut plain = true;
-        while i < b.len() {
-            let c = b[i];
-            let (space, len, special) = if c.is_ascii() {
-                let class = ASCII_CLASS[c as usize];
-                (class == SPACE, 1, class != 0)
-            } else {
-                let ch = text[i..].chars().next().unwrap_or(' ');
-                (is_python_space(ch), ch.len_utf8(), false)
-            };
-            if space {
-                if in_chunk {
-                    self.emit(&text, start, i, plain);
-                    in_chunk = false;
-                }
-            } else if !in_chunk {
-                (start, in_chunk, plain) = (i, true, !special);
-            } else {
-                plain &= !special;
+        let digit = |i: Option<usize>| i.and_then(|i| b.get(i)).is_some_and(u8::is_ascii_digit);
+        let mut chunk_start = 0;
+        let mut token_start = 0;
+        let mut chunk_first_span = self.spans.len();
+        let mut last_stop = None;
+        let mut literal = false;
+        let mut skip_to = 0;
+        for p in NonAlnum::new(b) {
+            let me = &mut *self;
+            if p < skip_to {
+                continue; // inside a non-ASCII character already seen
             }
-            i += len;
+            let c = b.get(p).copied().unwrap_or(b' ');
+            let space_len = match c {
+                0x80.. if c >= 0xC0 => {
+                    let ch = text[p..].chars().next().unwrap_or('a');
+                    skip_to = p + ch.len_utf8();
+                    if is_python_space(ch) { ch.len_utf8() } else { 0 }
+                }
+                0x80.. => 0,
+                _ if ASCII_CLASS[c as usize] == SPACE => 1,
+                _ => {
+                    let alone = match c {
+                        b'.' | b',' => {
+                            literal |= last_stop == p.checked_sub(1);
+                            last_stop = Some(p);
+                            !(digit(p.checked_sub(1)) && digit(Some(p + 1)))
+                        }
+                        b'-' => digit(p.checked_sub(1)),
+                        _ => is_13a_symbol(c),
+                    };
+                    if alone {
+                        if token_start < p {
+                            me.push(token_start, p);
+                        }
+                        me.push(p, p + 1);
+                        token_start = p + 1;
+                    }
+                    0
+                }
+            };
+            if space_len > 0 || p == b.len() {
+                if literal {
+                    me.spans.truncate(chunk_first_span);
+                    me.by_pieces(&text, chunk_start, p);
+                } else if token_start < p {
+                    me.push(token_start, p);
+                }
+                chunk_start = p + space_len;
+                token_start = chunk_start;
+                chunk_first_span = me.spans.len();
+                literal = false;
+            }
         }
-        if in_chunk {
-            self.emit(&text, start, b.len(), plain);
-        }
+        // Zeros after the text, so that every token's key is one 16-byte load.
+        text.push_str("\0\0\0\0\0\0\0\0\0\0\0\0\0\0\0\0");
         self.text = text;
+    }
+
+    /// The tokens in order, each with its [`StrIds::key`].
+    fn keyed(&self) -> impl Iterator<Item = (&str, Option<u128>)> + '_ {
+        let padded = self.text.as_bytes();
+        self.spans
+            .iter()
+            .map(move |&(s, e)| (&self.text[s..e], StrIds::key_in_padded(padded, s, e - s)))
     }
 
     /// Number of tokens.
@@ -198,48 +243,8 @@ impl Tokens13a {
         self.spans.push((start, end));
     }
 
-    /// The chunk `text[start..end]`, free of white space.
-    ///
-    /// Where no two full stops or commas ("stops") touch, the rules reduce to one test per
-    /// character: a symbol of rule 1 stands alone; a stop stands alone unless it has a
-    /// digit on both sides (rule 2 parts it when the left one is not a digit, rule 3 when
-    /// the right one is not); a hyphen stands alone after a digit (rule 4). Touching stops
-    /// make rule 2's matches depend on one another, so such chunks take the literal way.
-    fn emit(&mut self, text: &str, start: usize, end: usize, plain: bool) {
-        if plain {
-            self.push(start, end);
-            return;
-        }
-        let b = &text.as_bytes()[start..end];
-        let stop = |c: u8| c == b'.' || c == b',';
-        if b.windows(2).any(|w| stop(w[0]) && stop(w[1])) {
-            self.by_pieces(text, start, end);
-            return;
-        }
-        let digit = |i: usize| b.get(i).is_some_and(u8::is_ascii_digit);
-        let mut from = 0;
-        for (i, &c) in b.iter().enumerate() {
-            let left_digit = i > 0 && digit(i - 1);
-            let alone = match c {
-                b'.' | b',' => !(left_digit && digit(i + 1)),
-                b'-' => left_digit,
-                _ => c.is_ascii() && is_13a_symbol(c),
-            };
-            if alone {
-                if from < i {
-                    self.push(start + from, start + i);
-                }
-                self.push(start + i, start + i + 1);
-                from = i + 1;
-            }
-        }
-        if from < b.len() {
-            self.push(start + from, end);
-        }
-    }
-
-    /// [`Self::emit`]'s literal way: rule 1's symbols are tokens and cut the chunk into
-    /// independent pieces.
+    /// A chunk `text[start..end]` tokenised the literal way: rule 1's symbols are tokens and
+    /// cut the chunk into independent pieces.
     fn by_pieces(&mut self, text: &str, start: usize, end: usize) {
         let mut from = start;
         for (i, &b) in text.as_bytes()[start..end].iter().enumerate() {
@@ -389,32 +394,32 @@ fn counts<'a, 'b>(tokens: &'a [&'b str], n: usize) -> HashMap<&'a [&'b str], usi
 }
 
 /// The clipped n-gram counts of BLEU for one hypothesis, computed over small integer ids:
-/// each distinct hypothesis token gets an id, reference tokens absent from the hypothesis
-/// get none, and only the hypothesis's n-grams are counted in a table. A reference n-gram
-/// is looked up only when both (n−1)-grams inside it were found, since an n-gram of the
-/// hypothesis contains two (n−1)-grams of the hypothesis; most are never looked up. Equal
-/// to [`modified_precision`] for every order (tested).
+/// the hypothesis's distinct tokens are `0..k`, and a reference token absent from the
+/// hypothesis is [`ABSENT`]. Only the hypothesis's n-grams are counted in a table; a
+/// reference n-gram is looked up only when both (n−1)-grams inside it were found, since
+/// an n-gram of the hypothesis contains two (n−1)-grams of the hypothesis, so most are
+/// never looked up. Equal to [`modified_precision`] for every order (tested).
 #[derive(Debug, Default, Clone)]
 pub struct NgramCounter {
-    /// Hypothesis token → id.
-    ids: StrIds,
-    hyp_ids: Vec<u32>,
-    ref_ids: Vec<Vec<u32>>,
-    /// Hypothesis n-gram, n ≥ 2 (ids + 1 packed 32 bits apiece, so that orders differ) →
-    /// slot. Unigrams use their id as slot.
-    slots: FxHashMap<u128, u32>,
+    /// Hypothesis n-gram, n ≥ 2 (ids + 1 packed 32 bits apiece, so that orders differ and
+    /// no key is 0) → slot. Unigrams use their id as slot.
+    slots: NgramTable,
     /// First slot of each order; the last entry ends the slots.
     first_slot: [usize; MAX_ORDER + 1],
     hyp_counts: Vec<u32>,
     ref_counts: Vec<u32>,
     max_ref: Vec<u32>,
-    /// Per reference position: whether the (n−1)-gram ending there is the hypothesis's.
-    found: Vec<bool>,
-    found_next: Vec<bool>,
+    /// End positions in the reference of the (n−1)-grams that are the hypothesis's.
+    found: Vec<usize>,
+    found_next: Vec<usize>,
+    /// For [`NgramCounter::count`]: token → id, and the ids of the texts.
+    ids: FxHashMap<String, u32>,
+    hyp_ids: Vec<u32>,
+    ref_ids: Vec<Vec<u32>>,
 }
 
 /// Id of a reference token that the hypothesis does not hold.
-const ABSENT: u32 = u32::MAX;
+pub const ABSENT: u32 = u32::MAX;
 
 /// The table key of an n-gram of ids, n ≥ 2.
 fn ngram_key(gram: &[u32]) -> u128 {
@@ -422,9 +427,9 @@ fn ngram_key(gram: &[u32]) -> u128 {
 }
 
 impl NgramCounter {
-    /// `(clipped matches, total hypothesis n-grams)` for n = 1..=4, against every
-    /// reference (a hypothesis n-gram counts at most as often as in the reference that
-    /// holds it most).
+    /// `(clipped matches, total hypothesis n-grams)` for n = 1..=4 of the tokens `hyp`
+    /// against every reference in `refs` (a hypothesis n-gram counts at most as often as
+    /// in the reference that holds it most).
     pub fn count<'a, R>(
         &mut self,
         hyp: impl IntoIterator<Item = &'a str>,
@@ -433,31 +438,46 @@ impl NgramCounter {
     where
         R: IntoIterator<Item = &'a str>,
     {
-        let ids = &mut self.ids;
+        let mut ids = std::mem::take(&mut self.ids);
+        let mut hyp_ids = std::mem::take(&mut self.hyp_ids);
+        let mut ref_ids = std::mem::take(&mut self.ref_ids);
         ids.clear();
-        self.hyp_ids.clear();
+        hyp_ids.clear();
         for t in hyp {
             let next = ids.len() as u32;
-            self.hyp_ids.push(ids.get_or_insert(t, || next));
+            hyp_ids.push(*ids.entry(t.to_owned()).or_insert(next));
         }
-        let mut ref_ids = std::mem::take(&mut self.ref_ids);
         let mut n_refs = 0;
         for r in refs {
             if ref_ids.len() == n_refs {
                 ref_ids.push(Vec::new());
             }
-            let ids_of_ref = &mut ref_ids[n_refs];
-            ids_of_ref.clear();
-            ids_of_ref.extend(r.into_iter().map(|t| ids.get(t).unwrap_or(ABSENT)));
+            ref_ids[n_refs].clear();
+            ref_ids[n_refs].extend(r.into_iter().map(|t| ids.get(t).copied().unwrap_or(ABSENT)));
             n_refs += 1;
         }
-        self.hypothesis_slots();
+        let refs: Vec<&[u32]> = ref_ids[..n_refs].iter().map(Vec::as_slice).collect();
+        let counts = self.count_ids(&hyp_ids, ids.len(), &refs);
+        self.ids = ids;
+        self.hyp_ids = hyp_ids;
+        self.ref_ids = ref_ids;
+        counts
+    }
+
+    /// [`NgramCounter::count`] over ids: `hyp` holds ids below `k`, each reference ids
+    /// below `k` or [`ABSENT`].
+    pub fn count_ids(
+        &mut self,
+        hyp: &[u32],
+        k: usize,
+        refs: &[&[u32]],
+    ) -> ([usize; MAX_ORDER], [usize; MAX_ORDER]) {
+        self.hypothesis_slots(hyp, k);
         self.max_ref.clear();
         self.max_ref.resize(self.hyp_counts.len(), 0);
-        for r in &ref_ids[..n_refs] {
+        for r in refs {
             self.reference(r);
         }
-        self.ref_ids = ref_ids;
         let mut correct = [0; MAX_ORDER];
         let mut total = [0; MAX_ORDER];
         for n in 1..=MAX_ORDER {
@@ -467,25 +487,25 @@ impl NgramCounter {
                 .zip(&self.max_ref[slots])
                 .map(|(&h, &r)| h.min(r) as usize)
                 .sum();
-            total[n - 1] = self.hyp_ids.len().saturating_sub(n - 1);
+            total[n - 1] = hyp.len().saturating_sub(n - 1);
         }
         (correct, total)
     }
 
     /// Counts the hypothesis's n-grams into slots, order by order.
-    fn hypothesis_slots(&mut self) {
-        self.slots.clear();
+    fn hypothesis_slots(&mut self, hyp: &[u32], k: usize) {
+        self.slots.reset(hyp.len() * (MAX_ORDER - 1));
         self.hyp_counts.clear();
-        self.hyp_counts.resize(self.ids.len(), 0);
-        for &id in &self.hyp_ids {
+        self.hyp_counts.resize(k, 0);
+        for &id in hyp {
             self.hyp_counts[id as usize] += 1;
         }
         self.first_slot[0] = 0;
-        self.first_slot[1] = self.hyp_counts.len();
+        self.first_slot[1] = k;
         for n in 2..=MAX_ORDER {
-            for gram in self.hyp_ids.windows(n) {
+            for gram in hyp.windows(n) {
                 let next = self.hyp_counts.len() as u32;
-                let slot = *self.slots.entry(ngram_key(gram)).or_insert(next);
+                let slot = self.slots.get_or_insert(ngram_key(gram), next);
                 if slot == next {
                     self.hyp_counts.push(0);
                 }
@@ -497,26 +517,33 @@ impl NgramCounter {
 
     /// Counts one reference's n-grams that are the hypothesis's, and raises the maxima.
     fn reference(&mut self, r: &[u32]) {
+        // Unigram slots are the ids; one slot more, after all the others, counts the
+        // absent tokens, so that the loop needs no branch.
+        let absent_slot = self.hyp_counts.len();
         self.ref_counts.clear();
-        self.ref_counts.resize(self.hyp_counts.len(), 0);
+        self.ref_counts.resize(absent_slot + 1, 0);
+        // End positions of the unigrams found: written at every position, kept where
+        // the token is present.
         self.found.clear();
-        for &id in r {
+        self.found.resize(r.len(), 0);
+        let mut found = 0;
+        for (end, &id) in r.iter().enumerate() {
             let present = id != ABSENT;
-            if present {
-                self.ref_counts[id as usize] += 1;
-            }
-            self.found.push(present);
+            self.ref_counts[if present { id as usize } else { absent_slot }] += 1;
+            self.found[found] = end;
+            found += usize::from(present);
         }
+        self.found.truncate(found);
         for n in 2..=MAX_ORDER {
             self.found_next.clear();
-            self.found_next.resize(r.len(), false);
-            for end in n - 1..r.len() {
-                // The n-gram ending at `end` holds the (n−1)-grams ending at `end − 1` and
-                // at `end`.
-                if self.found[end - 1] && self.found[end] {
-                    if let Some(&slot) = self.slots.get(&ngram_key(&r[end + 1 - n..=end])) {
+            // The n-gram ending at `end` holds the (n−1)-grams ending at `end − 1` and at
+            // `end`: two found ends in a row.
+            for pair in self.found.windows(2) {
+                let end = pair[1];
+                if pair[0] + 1 == end {
+                    if let Some(slot) = self.slots.get(ngram_key(&r[end + 1 - n..=end])) {
                         self.ref_counts[slot as usize] += 1;
-                        self.found_next[end] = true;
+                        self.found_next.push(end);
                     }
                 }
             }
@@ -546,11 +573,16 @@ pub fn sentence_bleu(hypothesis: &str, references: &[&str]) -> Bleu {
 }
 
 /// [`sentence_bleu`] against a single reference, keeping its buffers from one pair to the
-/// next: for scoring many pairs.
+/// next: for scoring many pairs. The hypothesis's distinct tokens get ids in a table
+/// sized for it; each reference token is looked up there unless a 256-bit filter of the
+/// hypothesis's tokens (by length and end bytes) already rules it out.
 #[derive(Debug, Default, Clone)]
 pub struct SentenceBleu {
     hyp: Tokens13a,
     reference: Tokens13a,
+    ids: HypothesisIds,
+    hyp_ids: Vec<u32>,
+    ref_ids: Vec<u32>,
     counter: NgramCounter,
 }
 
@@ -559,9 +591,72 @@ impl SentenceBleu {
     pub fn score(&mut self, hypothesis: &str, reference: &str) -> Bleu {
         self.hyp.tokenize(hypothesis);
         self.reference.tokenize(reference);
-        let (correct, total) =
-            self.counter.count(self.hyp.iter(), std::iter::once(self.reference.iter()));
+        self.ids.reset(self.hyp.len());
+        self.hyp_ids.clear();
+        let mut filter = [0u64; 4];
+        for (t, key) in self.hyp.keyed() {
+            self.hyp_ids.push(self.ids.get_or_insert(t, key));
+            let bit = filter_bit(t);
+            filter[bit / 64] |= 1 << (bit % 64);
+        }
+        self.ref_ids.clear();
+        let ids = &self.ids;
+        self.ref_ids.extend(self.reference.keyed().map(|(t, key)| {
+            let bit = filter_bit(t);
+            if filter[bit / 64] & (1 << (bit % 64)) == 0 {
+                ABSENT
+            } else {
+                ids.get(t, key).unwrap_or(ABSENT)
+            }
+        }));
+        let k = self.ids.len as usize;
+        let (correct, total) = self.counter.count_ids(&self.hyp_ids, k, &[&self.ref_ids]);
         compute(correct, total, self.hyp.len(), self.reference.len())
+    }
+}
+
+/// Bit of a token in [`SentenceBleu`]'s filter, 0..256.
+fn filter_bit(t: &str) -> usize {
+    let b = t.as_bytes();
+    let (first, last) = (b.first().copied().unwrap_or(0), b.last().copied().unwrap_or(0));
+    (usize::from(first).wrapping_mul(7) ^ usize::from(last).wrapping_mul(31) ^ b.len()) & 255
+}
+
+/// Ids of the hypothesis's distinct tokens, 0, 1, … in order of first occurrence: tokens
+/// of up to 15 bytes by their [`StrIds::key`] in a table sized for the hypothesis,
+/// longer ones in a map.
+#[derive(Debug, Default, Clone)]
+struct HypothesisIds {
+    short: NgramTable,
+    long: StrIds,
+    len: u32,
+}
+
+impl HypothesisIds {
+    fn reset(&mut self, tokens: usize) {
+        self.short.reset(tokens);
+        self.long.clear();
+        self.len = 0;
+    }
+
+    /// The id of `t`, whose key is `key`.
+    fn get_or_insert(&mut self, t: &str, key: Option<u128>) -> u32 {
+        let next = self.len;
+        let id = match key.filter(|&k| k != 0) {
+            Some(key) => self.short.get_or_insert(key, next),
+            None => self.long.get_or_insert(t, || next),
+        };
+        if id == next {
+            self.len += 1;
+        }
+        id
+    }
+
+    fn get(&self, t: &str, key: Option<u128>) -> Option<u32> {
+        match key.filter(|&k| k != 0) {
+            Some(key) => self.short.get(key),
+            None => self.long.get(t),
+        }
     }
 }
 
@@ -750,7 +845,13 @@ mod tests {
             let alphabet = 1 + round % 6;
             let mut sentence = |max: u64| -> Vec<String> {
                 let n = (next() % max) as usize;
-                (0..n).map(|_| format!("w{}", next() % alphabet as u64)).collect()
+                // Even symbols short, odd ones longer than 15 bytes (the two kinds of key).
+                (0..n)
+                    .map(|_| match next() % alphabet as u64 {
+                        k if k % 2 == 0 => format!("w{k}"),
+                        k => format!("a-token-longer-than-fifteen-bytes-{k}"),
+                    })
+                    .collect()
             };
             let hyp = sentence(30);
             let refs: Vec<Vec<String>> = (0..1 + round % 3).map(|_| sentence(40)).collect();
@@ -775,6 +876,42 @@ mod tests {
             ("It costs $3.50, ok?", "It costs $3.50 - ok?"),
         ] {
             assert_eq!(scorer.score(h, r), sentence_bleu(h, &[r]), "{h:?} {r:?}");
+        }
+        // Random lines from few words, long ones among them, so that n-grams repeat; twice
+        // over, so that the buffers are reused.
+        let words = [
+            "the",
+            "cat",
+            "sat",
+            "on",
+            "mat",
+            ".",
+            ",",
+            "The",
+            "Mat",
+            "x-1",
+            "an-unusually-long-token-of-more-than-sixteen-bytes",
+            "3.5",
+            "(",
+            ")",
+        ];
+        let mut next = rng(0xABCD_EF01_2345_6789);
+        let mut line = |max: u64| -> String {
+            let n = next() % max;
+            (0..n)
+                .map(|_| words[(next() % words.len() as u64) as usize])
+                .collect::<Vec<_>>()
+                .join(" ")
+        };
+        let pairs: Vec<(String, String)> = (0..400).map(|_| (line(20), line(60))).collect();
+        for round in 0..2 {
+            for (h, r) in &pairs {
+                assert_eq!(
+                    scorer.score(h, r),
+                    sentence_bleu(h, &[r]),
+                    "round {round}: {h:?} {r:?}"
+                );
+            }
         }
     }
 

@@ -114,7 +114,8 @@ pub fn lcs_len<T: Eq + Hash>(a: &[T], b: &[T]) -> usize {
 #[derive(Debug, Clone)]
 pub struct LcsTable {
     blocks: usize,
-    /// `masks[sym * blocks + k]`: bits of the positions of `sym` in block `k`.
+    /// `masks[sym * blocks + k]`: bits of the positions of `sym` in block `k`; the row
+    /// `alphabet` is all zeros.
     masks: Vec<u64>,
     alphabet: usize,
 }
@@ -131,7 +132,9 @@ impl LcsTable {
     pub fn prepare(&mut self, a: &[u32], alphabet: usize) {
         let blocks = a.len().div_ceil(64).max(1);
         self.masks.clear();
-        self.masks.resize(alphabet * blocks, 0);
+        // One more row, all zeros, for the symbols outside the alphabet: a zero mask leaves
+        // the bit vector as it is, so they need no branch.
+        self.masks.resize((alphabet + 1) * blocks, 0);
         for (i, &sym) in a.iter().enumerate() {
             self.masks[sym as usize * blocks + i / 64] |= 1u64 << (i % 64);
         }
@@ -145,11 +148,9 @@ impl LcsTable {
         if self.blocks == 1 {
             let mut v = u64::MAX;
             for sym in b {
-                if (sym as usize) < self.alphabet {
-                    let m = self.masks[sym as usize];
-                    let u = v & m;
-                    v = v.wrapping_add(u) | (v & !m);
-                }
+                let m = self.masks[(sym as usize).min(self.alphabet)];
+                let u = v & m;
+                v = v.wrapping_add(u) | (v & !m);
             }
             return v.count_zeros() as usize;
         }

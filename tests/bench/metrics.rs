@@ -20,7 +20,8 @@
 //!   bench keeps in `target/bench-python` (made on first use, with the versions pinned in
 //!   tests/oracle/oracle_lib.py), else the baseline is skipped with a notice.
 //!
-//! `PLUMBLINE_BENCH_PROFILE=1` runs only plumbline's pass, five times, for a profiler;
+//! `PLUMBLINE_BENCH_PROFILE=N` runs only plumbline's pass, N times (5 if N is not a
+//! number), for a profiler;
 //! `PLUMBLINE_BENCH_PAIRS=N` makes N pairs instead of 20,000 (at least 2,000).
 
 use std::hash::{BuildHasher, Hasher};
@@ -386,14 +387,49 @@ impl Hasher for Fnv {
     }
 }
 
+/// Time this thread has spent running on a processor, in seconds: the first field of
+/// /proc/thread-self/schedstat (nanoseconds). `None` where the kernel does not give it.
+fn thread_cpu_seconds() -> Option<f64> {
+    let s = std::fs::read_to_string("/proc/thread-self/schedstat").ok()?;
+    Some(s.split_whitespace().next()?.parse::<f64>().ok()? / 1e9)
+}
+
+/// The best (least) of `RUNS` timings: wall-clock, and time on a processor. The machine
+/// is shared, so the two can differ by the time the thread waited for a processor; the
+/// second is what the code itself costs.
+#[derive(Clone, Copy)]
+struct Timing {
+    wall: f64,
+    cpu: Option<f64>,
+}
+
+impl Timing {
+    fn rates(&self, pairs: f64, mb: f64) -> String {
+        let mut s = format!(
+            "{:.3}s wall ({:.0} pairs/s, {:.1} MB/s)",
+            self.wall,
+            pairs / self.wall,
+            mb / self.wall
+        );
+        if let Some(cpu) = self.cpu {
+            s += &format!("; {cpu:.3}s on CPU ({:.0} pairs/s, {:.1} MB/s)", pairs / cpu, mb / cpu);
+        }
+        s
+    }
+}
+
 /// Best of `RUNS` timings of `f`, with its last result.
-fn best_of<T>(mut f: impl FnMut() -> T) -> (f64, T) {
-    let mut best = f64::INFINITY;
+fn best_of<T>(mut f: impl FnMut() -> T) -> (Timing, T) {
+    let mut best = Timing { wall: f64::INFINITY, cpu: None };
     let mut last = None;
     for _ in 0..RUNS {
+        let cpu = thread_cpu_seconds();
         let t = Instant::now();
         let r = std::hint::black_box(f());
-        best = best.min(t.elapsed().as_secs_f64());
+        best.wall = best.wall.min(t.elapsed().as_secs_f64());
+        if let (Some(before), Some(after)) = (cpu, thread_cpu_seconds()) {
+            best.cpu = Some(best.cpu.map_or(after - before, |c: f64| c.min(after - before)));
+        }
         last = Some(r);
     }
     (best, last.expect("RUNS > 0"))
@@ -403,9 +439,9 @@ fn best_of<T>(mut f: impl FnMut() -> T) -> (f64, T) {
 struct PythonFigures {
     python: String,
     rouge_version: String,
-    rouge_pairs_per_s: f64,
+    rouge: Timing,
     bleu_version: String,
-    bleu_pairs_per_s: f64,
+    bleu: Timing,
     pairs: usize,
 }
 
@@ -503,13 +539,19 @@ fn python_baseline(pairs: &[Pair]) -> Result<PythonFigures, String> {
         .map_err(|e| format!("{} printed no JSON ({e})", script.display()))?;
     let num = |k: &str, f: &str| v[k][f].as_f64().ok_or(format!("no {k}.{f} in {v}"));
     let text = |k: &str, f: &str| v[k][f].as_str().unwrap_or("?").to_owned();
+    let timing = |k: &str| -> Result<Timing, String> {
+        Ok(Timing { wall: num(k, "seconds")?, cpu: num(k, "cpu_seconds").ok() })
+    };
     let n = num("rouge_score", "pairs")? as usize;
+    if num("sacrebleu", "pairs")? as usize != n {
+        return Err(format!("{} timed the two libraries on different pairs", script.display()));
+    }
     Ok(PythonFigures {
         python: v["python"].as_str().unwrap_or("?").to_owned(),
         rouge_version: text("rouge_score", "version"),
-        rouge_pairs_per_s: n as f64 / num("rouge_score", "seconds")?,
+        rouge: timing("rouge_score")?,
         bleu_version: text("sacrebleu", "version"),
-        bleu_pairs_per_s: num("sacrebleu", "pairs")? / num("sacrebleu", "seconds")?,
+        bleu: timing("sacrebleu")?,
         pairs: n,
     })
 }
@@ -522,9 +564,9 @@ fn main() {
     let t = Instant::now();
     let count = std::env::var("PLUMBLINE_BENCH_PAIRS").ok().and_then(|v| v.parse().ok());
     let pairs = corpus(&mut Rng(SEED), count.unwrap_or(PAIRS).max(PYTHON_PAIRS));
-    if std::env::var_os("PLUMBLINE_BENCH_PROFILE").is_some() {
-        // For a profiler: only plumbline's pass, five times over.
-        for _ in 0..5 {
+    if let Ok(passes) = std::env::var("PLUMBLINE_BENCH_PROFILE") {
+        // For a profiler: only plumbline's pass, five times over (or as many as given).
+        for _ in 0..passes.parse().unwrap_or(5) {
             std::hint::black_box(plumbline_pass(&pairs));
         }
         return;
@@ -545,52 +587,76 @@ fn main() {
     );
 
     assert_same_as_composed(&pairs[..PYTHON_PAIRS]);
-    let (secs, sums) = best_of(|| plumbline_pass(&pairs));
     let n = pairs.len() as f64;
-    let ours = n / secs;
-    let ours_mb = mb / secs;
+    let (ours, sums) = best_of(|| plumbline_pass(&pairs));
     println!(
-        "plumbline, tokens + Snowball stems + ROUGE-1/2/L + sentence BLEU (13a), 1 thread: best of {RUNS} {secs:.3}s, {ours:.0} pairs/s, {ours_mb:.1} MB/s (mean F: ROUGE-1 {:.3}, ROUGE-2 {:.3}, ROUGE-L {:.3}; mean BLEU {:.4}, low because the brevity penalty of a 25-word candidate against a 300-word reference is about e^-11; mean 1-gram precision {:.1})",
+        "plumbline, words + Snowball stems + ROUGE-1/2/L + sentence BLEU (13a), 1 thread, best of {RUNS}: {}",
+        ours.rates(n, mb)
+    );
+    println!(
+        "  (mean F: ROUGE-1 {:.3}, ROUGE-2 {:.3}, ROUGE-L {:.3}; mean BLEU {:.4}, low because the brevity penalty of a 25-word candidate against a 300-word reference is about e^-11; mean 1-gram precision {:.1})",
         sums.rouge1 / n,
         sums.rouge2 / n,
         sums.rouge_l / n,
         sums.bleu / n,
         sums.bleu_p1 / n
     );
-
-    let (secs, matched) = best_of(|| plain_pass(&pairs));
-    let plain_mb = mb / secs;
+    let (plain, matched) = best_of(|| plain_pass(&pairs));
     println!(
-        "plain pass, lower-case + split on non-alphanumerics + hashed word bigrams, 1 thread: best of {RUNS} {secs:.3}s, {:.0} pairs/s, {plain_mb:.1} MB/s ({matched} bigram matches)",
-        n / secs
+        "plain pass, lower-case + split on non-alphanumerics + hashed word bigrams, 1 thread, best of {RUNS}: {} ({matched} bigram matches)",
+        plain.rates(n, mb)
     );
 
     let python = python_baseline(&pairs);
     match &python {
         Ok(p) => {
+            let sub = p.pairs as f64;
+            let sub_mb = pairs[..p.pairs]
+                .iter()
+                .map(|p| p.candidate.len() + p.reference.len())
+                .sum::<usize>() as f64
+                / 1e6;
             println!(
-                "rouge-score {} (rouge1, rouge2, rougeL, use_stemmer=True), Python {}, first {} pairs: {:.1} pairs/s",
-                p.rouge_version, p.python, p.pairs, p.rouge_pairs_per_s
+                "rouge-score {} (rouge1, rouge2, rougeL, use_stemmer=True), Python {}, first {} pairs, once: {}",
+                p.rouge_version,
+                p.python,
+                p.pairs,
+                p.rouge.rates(sub, sub_mb)
             );
             println!(
-                "sacrebleu {} sentence_bleu (defaults), first {} pairs: {:.1} pairs/s",
-                p.bleu_version, p.pairs, p.bleu_pairs_per_s
+                "sacrebleu {} sentence_bleu (defaults), first {} pairs, once: {}",
+                p.bleu_version,
+                p.pairs,
+                p.bleu.rates(sub, sub_mb)
             );
         }
         Err(why) => println!("reference libraries: baseline skipped ({why})"),
     }
 
+    // Ratios of rates: wall-clock to wall-clock, and time on CPU to time on CPU.
+    let ratio = |a: Timing, na: f64, b: Timing, nb: f64| {
+        let wall = (na / a.wall) / (nb / b.wall);
+        match (a.cpu, b.cpu) {
+            (Some(ac), Some(bc)) => {
+                format!("{wall:.3} wall-clock, {:.3} on CPU", (na / ac) / (nb / bc))
+            }
+            _ => format!("{wall:.3} wall-clock"),
+        }
+    };
     println!("ratios:");
     if let Ok(p) = &python {
+        let sub = p.pairs as f64;
         println!(
-            "  plumbline pairs/s / rouge-score pairs/s = {:.0}x (target >= 200x; the Python figures are for the first {} pairs, scaled to pairs/s)",
-            ours / p.rouge_pairs_per_s,
+            "  plumbline pairs/s / rouge-score pairs/s = {} (target >= 200; rouge-score timed on the first {} pairs, rates compared)",
+            ratio(ours, n, p.rouge, sub),
             p.pairs
         );
-        println!("  plumbline pairs/s / sacrebleu pairs/s   = {:.0}x", ours / p.bleu_pairs_per_s);
+        println!("  plumbline pairs/s / sacrebleu pairs/s   = {}", ratio(ours, n, p.bleu, sub));
     }
+    println!("  plumbline MB/s / plain pass MB/s       = {}", ratio(ours, n, plain, n));
     println!(
-        "  plumbline MB/s / plain pass MB/s       = {:.3} ({ours_mb:.1} MB/s through the whole metric set; target >= 100 MB/s)",
-        ours_mb / plain_mb
+        "  plumbline MB/s through the whole metric set: {:.1} wall-clock{} (target >= 100)",
+        mb / ours.wall,
+        ours.cpu.map_or(String::new(), |c| format!(", {:.1} on CPU", mb / c))
     );
 }
