@@ -31,17 +31,19 @@ pub fn fmeasure(precision: f64, recall: f64) -> f64 {
 ///
 /// The tokenisers of [`pair`] and [`bleu`] only have decisions to make at such bytes
 /// (white space, punctuation, the bytes of non-ASCII characters); the letters and digits
-/// between them, most of a text, are skipped eight at a time. With the top bit of each
-/// byte cleared, adding `0x80 − k` to every byte sets its top bit exactly when the byte is
-/// at least `k`, without carries between bytes, which gives the range tests for `0-9`
-/// and, with bit 5 set, `a-z`. Tested equal to the byte-by-byte loop.
+/// between them, most of a text, are skipped 32 at a time. For each eight bytes: with the
+/// top bit of each byte cleared, adding `0x80 − k` to every byte sets its top bit exactly
+/// when the byte is at least `k`, without carries between bytes, which gives the range
+/// tests for `0-9` and, with bit 5 set, `a-z`; a multiplication then gathers the eight top
+/// bits into one byte of a 32-bit mask. Large blocks mean fewer hard-to-predict loop exits.
+/// Tested equal to the byte-by-byte loop.
 pub(crate) struct NonAlnum<'a> {
     b: &'a [u8],
-    /// Start of the eight bytes `mask` describes.
+    /// Start of the 32 bytes `mask` describes.
     block: usize,
-    /// The top bit of byte k set for each position `block + k` still to give.
-    mask: u64,
-    /// Start of the next eight bytes to read.
+    /// Bit k set for each position `block + k` still to give.
+    mask: u32,
+    /// Start of the next 32 bytes to read.
     next: usize,
     done: bool,
 }
@@ -50,6 +52,24 @@ impl<'a> NonAlnum<'a> {
     pub(crate) fn new(b: &'a [u8]) -> NonAlnum<'a> {
         NonAlnum { b, block: 0, mask: 0, next: 0, done: false }
     }
+
+    /// Bit k set for each byte k of `chunk` (8 bytes) that is not an ASCII letter or digit.
+    #[inline(always)]
+    fn mask8(chunk: &[u8]) -> u32 {
+        const ONES: u64 = 0x0101_0101_0101_0101;
+        const TOP: u64 = 0x8080_8080_8080_8080;
+        let at_least = |v: u64, k: u64| (v + (0x80 - k) * ONES) & TOP;
+        let x = u64::from_le_bytes(chunk.try_into().unwrap_or([0; 8]));
+        let ascii = !x & TOP;
+        let low = x & !TOP;
+        let folded = (x | 0x20 * ONES) & !TOP;
+        let letter = at_least(folded, 0x61) & !at_least(folded, 0x7B);
+        let digit = at_least(low, 0x30) & !at_least(low, 0x3A);
+        let others = !((letter | digit) & ascii) & TOP;
+        // Gather the top bit of byte k into bit k: shift the top bits down to bit 0 of each
+        // byte, then multiply so that they line up in the top byte.
+        ((others >> 7).wrapping_mul(0x0102_0408_1020_4080) >> 56) as u32
+    }
 }
 
 impl Iterator for NonAlnum<'_> {
@@ -57,12 +77,9 @@ impl Iterator for NonAlnum<'_> {
 
     #[inline(always)]
     fn next(&mut self) -> Option<usize> {
-        const ONES: u64 = 0x0101_0101_0101_0101;
-        const TOP: u64 = 0x8080_8080_8080_8080;
-        let at_least = |v: u64, k: u64| (v + (0x80 - k) * ONES) & TOP;
         loop {
             if self.mask != 0 {
-                let p = self.block + (self.mask.trailing_zeros() / 8) as usize;
+                let p = self.block + self.mask.trailing_zeros() as usize;
                 self.mask &= self.mask - 1;
                 return Some(p);
             }
@@ -70,24 +87,21 @@ impl Iterator for NonAlnum<'_> {
                 return None;
             }
             self.block = self.next;
-            if let Some(chunk) = self.b.get(self.next..self.next + 8) {
-                let x = u64::from_le_bytes(chunk.try_into().unwrap_or([0; 8]));
-                let ascii = !x & TOP;
-                let low = x & !TOP;
-                let folded = (x | 0x20 * ONES) & !TOP;
-                let letter = at_least(folded, 0x61) & !at_least(folded, 0x7B);
-                let digit = at_least(low, 0x30) & !at_least(low, 0x3A);
-                self.mask = !((letter | digit) & ascii) & TOP;
-                self.next += 8;
+            if let Some(chunk) = self.b.get(self.next..self.next + 32) {
+                self.mask = Self::mask8(&chunk[0..8])
+                    | Self::mask8(&chunk[8..16]) << 8
+                    | Self::mask8(&chunk[16..24]) << 16
+                    | Self::mask8(&chunk[24..32]) << 24;
+                self.next += 32;
             } else {
-                // The last bytes, fewer than eight, and the end itself.
+                // The last bytes, fewer than 32, and the end itself.
                 let tail = &self.b[self.next..];
                 for (k, c) in tail.iter().enumerate() {
                     if !c.is_ascii_alphanumeric() {
-                        self.mask |= 0x80 << (8 * k);
+                        self.mask |= 1 << k;
                     }
                 }
-                self.mask |= 0x80 << (8 * tail.len());
+                self.mask |= 1 << tail.len();
                 self.done = true;
             }
         }
@@ -308,7 +322,7 @@ mod tests {
             x
         };
         for _ in 0..20_000 {
-            let len = (next() % 40) as usize;
+            let len = (next() % 100) as usize;
             // Mostly letters and digits, with every byte value sometimes.
             let b: Vec<u8> = (0..len)
                 .map(|_| match next() % 4 {

@@ -416,9 +416,10 @@ fn ascii_word_spans(text: &str, out: &mut Vec<(usize, usize)>) {
             // One joining character between two letters or two digits.
             if p + 1 < b.len() {
                 let (prev, next) = (class(p - 1), class(p + 1));
-                let letters = prev & next & LETTER != 0 && c & MID_LETTER != 0;
-                let digits = prev & next & DIGIT != 0 && c & MID_NUM != 0;
-                if letters || digits {
+                // Bit tests without short-circuits: no branches to mispredict.
+                let letters = (prev & next & LETTER != 0) & (c & MID_LETTER != 0);
+                let digits = (prev & next & DIGIT != 0) & (c & MID_NUM != 0);
+                if letters | digits {
                     continue;
                 }
             }
