@@ -596,17 +596,21 @@ impl SentenceBleu {
         let mut filter = [0u64; 4];
         for (t, key) in self.hyp.keyed() {
             self.hyp_ids.push(self.ids.get_or_insert(t, key));
-            let bit = filter_bit(t);
+            let bit = filter_bit(t.as_bytes());
             filter[bit / 64] |= 1 << (bit % 64);
         }
         self.ref_ids.clear();
         let ids = &self.ids;
-        self.ref_ids.extend(self.reference.keyed().map(|(t, key)| {
-            let bit = filter_bit(t);
+        let reference = &self.reference;
+        let padded = reference.text.as_bytes();
+        self.ref_ids.extend(reference.spans.iter().map(|&(s, e)| {
+            // The filter first: most tokens stop there, before any key or slice is made.
+            let bit = filter_bit(&padded[s..e]);
             if filter[bit / 64] & (1 << (bit % 64)) == 0 {
                 ABSENT
             } else {
-                ids.get(t, key).unwrap_or(ABSENT)
+                let key = StrIds::key_in_padded(padded, s, e - s);
+                ids.get(&reference.text[s..e], key).unwrap_or(ABSENT)
             }
         }));
         let k = self.ids.len as usize;
@@ -616,8 +620,7 @@ impl SentenceBleu {
 }
 
 /// Bit of a token in [`SentenceBleu`]'s filter, 0..256.
-fn filter_bit(t: &str) -> usize {
-    let b = t.as_bytes();
+fn filter_bit(b: &[u8]) -> usize {
     let (first, last) = (b.first().copied().unwrap_or(0), b.last().copied().unwrap_or(0));
     (usize::from(first).wrapping_mul(7) ^ usize::from(last).wrapping_mul(31) ^ b.len()) & 255
 }
