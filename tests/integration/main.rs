@@ -12,5 +12,6 @@ mod harness;
 mod oracle_metrics;
 mod paper_examples;
 mod report;
+mod score_input;
 mod stemmer;
 mod uax29;
