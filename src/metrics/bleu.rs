@@ -122,6 +122,13 @@ const INSERTED: usize = usize::MAX;
 impl Tokens13a {
     /// Replaces the tokens with those of `line`.
     pub fn tokenize(&mut self, line: &str) {
+        self.tokenize_with(line, None);
+    }
+
+    /// [`Tokens13a::tokenize`], given the positions of `line`'s bytes that are not ASCII
+    /// letters or digits (from [`NonAlnum`], with its final `line.len()`) if the caller
+    /// has them already.
+    pub(crate) fn tokenize_with(&mut self, line: &str, events: Option<&[u32]>) {
         self.text.clear();
         self.spans.clear();
         let line = line.trim_end_matches(is_python_space);
@@ -156,6 +163,24 @@ impl Tokens13a {
         // after a digit (rule 4). White space and the ends of the line are not digits.
         // Touching stops make rule 2's matches depend on one another, so such a chunk is
         // tokenised again the literal way.
+        // The given positions fit the text unless sacrebleu's preprocessing changed it;
+        // trailing white space was cut, so only those before the new end, and the end.
+        let end = text.len();
+        match events.filter(|_| owned.is_none()) {
+            Some(events) => {
+                let before_end = events.iter().map(|&p| p as usize).take_while(|&p| p < end);
+                self.scan(&text, before_end.chain(std::iter::once(end)));
+            }
+            None => self.scan(&text, NonAlnum::new(text.as_bytes())),
+        }
+        // Zeros after the text, so that every token's key is one 16-byte load.
+        text.push_str("\0\0\0\0\0\0\0\0\0\0\0\0\0\0\0\0");
+        self.text = text;
+    }
+
+    /// Cuts `text` into tokens, visiting the positions `events` of its bytes that are not
+    /// ASCII letters or digits, in order, and then its length.
+    fn scan(&mut self, text: &str, events: impl Iterator<Item = usize>) {
         let b = text.as_bytes();
         let digit = |i: Option<usize>| i.and_then(|i| b.get(i)).is_some_and(u8::is_ascii_digit);
         let mut chunk_start = 0;
@@ -164,7 +189,7 @@ impl Tokens13a {
         let mut last_stop = None;
         let mut literal = false;
         let mut skip_to = 0;
-        for p in NonAlnum::new(b) {
+        for p in events {
             let me = &mut *self;
             if p < skip_to {
                 continue; // inside a non-ASCII character already seen
@@ -201,7 +226,7 @@ impl Tokens13a {
             if space_len > 0 || p == b.len() {
                 if literal {
                     me.spans.truncate(chunk_first_span);
-                    me.by_pieces(&text, chunk_start, p);
+                    me.by_pieces(text, chunk_start, p);
                 } else if token_start < p {
                     me.push(token_start, p);
                 }
@@ -211,9 +236,6 @@ impl Tokens13a {
                 literal = false;
             }
         }
-        // Zeros after the text, so that every token's key is one 16-byte load.
-        text.push_str("\0\0\0\0\0\0\0\0\0\0\0\0\0\0\0\0");
-        self.text = text;
     }
 
     /// The tokens in order, each with its [`StrIds::key`].
@@ -589,8 +611,19 @@ pub struct SentenceBleu {
 impl SentenceBleu {
     /// Equal to `sentence_bleu(hypothesis, &[reference])`.
     pub fn score(&mut self, hypothesis: &str, reference: &str) -> Bleu {
+        self.score_with(hypothesis, reference, None)
+    }
+
+    /// [`SentenceBleu::score`], given the reference's [`NonAlnum`] positions if the
+    /// caller has them already.
+    pub(crate) fn score_with(
+        &mut self,
+        hypothesis: &str,
+        reference: &str,
+        reference_events: Option<&[u32]>,
+    ) -> Bleu {
         self.hyp.tokenize(hypothesis);
-        self.reference.tokenize(reference);
+        self.reference.tokenize_with(reference, reference_events);
         self.ids.reset(self.hyp.len());
         self.hyp_ids.clear();
         let mut filter = [0u64; 4];

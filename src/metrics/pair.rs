@@ -88,6 +88,8 @@ pub struct PairScorer {
     /// Local ids of the reference's units, in order, [`ABSENT`] for units not in the
     /// candidate.
     refr: Vec<u32>,
+    /// The reference's [`NonAlnum`] positions.
+    events: Vec<u32>,
     /// Lower-cased ASCII text, and its words.
     lower: String,
     spans: Vec<(usize, usize)>,
@@ -114,6 +116,7 @@ impl PairScorer {
             local: Vec::new(),
             cand: Vec::new(),
             refr: Vec::new(),
+            events: Vec::new(),
             lower: String::new(),
             spans: Vec::new(),
             cand_counts: Vec::new(),
@@ -139,8 +142,13 @@ impl PairScorer {
         let mut refr = std::mem::take(&mut self.refr);
         cand_units.clear();
         refr.clear();
-        self.units_of(candidate, &mut cand_units);
-        self.units_of(reference, &mut refr);
+        // The reference is most of the text, and both tokenisers visit the same bytes of
+        // it (those that are not ASCII letters or digits): find them once.
+        let mut events = std::mem::take(&mut self.events);
+        events.clear();
+        events.extend(NonAlnum::new(reference.as_bytes()).map(|p| p as u32));
+        self.units_of(candidate, &mut cand_units, None);
+        self.units_of(reference, &mut refr, Some(&events));
         // Candidate units get local ids 0, 1, … in order of first occurrence, in `local`
         // (indexed by unit id, ABSENT elsewhere), which then maps the reference's units
         // without a branch; the candidate's entries are put back to ABSENT at the end.
@@ -176,7 +184,9 @@ impl PairScorer {
         };
         self.cand = cand;
         self.refr = refr;
-        PairMetrics { rouge1, rouge2, rouge_l, bleu: self.bleu.score(candidate, reference) }
+        let bleu = self.bleu.score_with(candidate, reference, Some(&events));
+        self.events = events;
+        PairMetrics { rouge1, rouge2, rouge_l, bleu }
     }
 
     /// ROUGE-1 over local ids: counts in arrays, the clipped overlap their minima.
@@ -226,8 +236,9 @@ impl PairScorer {
         overlap_prf(overlap, cand.len().saturating_sub(1), refr.len().saturating_sub(1))
     }
 
-    /// Appends the unit id of every ROUGE word of `text` to `out`, in order.
-    fn units_of(&mut self, text: &str, out: &mut Vec<u32>) {
+    /// Appends the unit id of every ROUGE word of `text` to `out`, in order; `events` are
+    /// `text`'s [`NonAlnum`] positions, if at hand.
+    fn units_of(&mut self, text: &str, out: &mut Vec<u32>, events: Option<&[u32]>) {
         match self.tokens {
             RougeTokens::Unicode => {
                 // Non-ASCII characters are rare in most text, and the Unicode path is dear,
@@ -241,13 +252,14 @@ impl PairScorer {
                 let mut pos = 0;
                 while pos < b.len() {
                     let Some(off) = b[pos..].iter().position(|c| !c.is_ascii()) else {
-                        self.ascii_units(&text[pos..], out);
+                        // The given positions are the text's own when it starts here.
+                        self.ascii_units(&text[pos..], out, events.filter(|_| pos == 0));
                         break;
                     };
                     let k = pos + off;
                     let start = (pos + 1..=k).rev().find(|&p| cut(p)).unwrap_or(pos);
                     let end = (k + 1..b.len()).find(|&p| cut(p)).unwrap_or(b.len());
-                    self.ascii_units(&text[pos..start], out);
+                    self.ascii_units(&text[pos..start], out, None);
                     let folded = fold(&text[start..end]);
                     for (s, e) in word_spans(&folded) {
                         out.push(self.unit(&folded[s..e]));
@@ -276,7 +288,7 @@ impl PairScorer {
 
     /// [`RougeTokens::Unicode`] units of ASCII text: [`fold`] is lower-casing (and the
     /// backtick made an apostrophe), done here into a buffer kept across pairs.
-    fn ascii_units(&mut self, text: &str, out: &mut Vec<u32>) {
+    fn ascii_units(&mut self, text: &str, out: &mut Vec<u32>, events: Option<&[u32]>) {
         if text.is_empty() {
             return;
         }
@@ -289,7 +301,13 @@ impl PairScorer {
             lower = lower.replace('`', "'");
         }
         spans.clear();
-        ascii_word_spans(&lower, &mut spans);
+        // Lower-casing keeps letters letters: `text`'s positions are `lower`'s.
+        match events {
+            Some(events) => {
+                ascii_word_spans(&lower, events.iter().map(|&p| p as usize), &mut spans)
+            }
+            None => ascii_word_spans(&lower, NonAlnum::new(lower.as_bytes()), &mut spans),
+        }
         // Zeros after the text, so that every word's key is one 16-byte load.
         let len = lower.len();
         lower.push_str("\0\0\0\0\0\0\0\0\0\0\0\0\0\0\0\0");
@@ -390,13 +408,17 @@ static ASCII_WORD_CLASS: [u8; 256] = {
 /// `_` join; `'` `.` `:` join two letters; `'` `.` `,` `;` join two digits; a word needs a
 /// letter or digit), found in one pass with a class table and no list. Tested equal to
 /// [`word_spans`].
-fn ascii_word_spans(text: &str, out: &mut Vec<(usize, usize)>) {
+fn ascii_word_spans(
+    text: &str,
+    events: impl Iterator<Item = usize>,
+    out: &mut Vec<(usize, usize)>,
+) {
     let b = text.as_bytes();
     let class = |i: usize| ASCII_WORD_CLASS[b[i] as usize];
     // The word being read: its start, and whether it has a letter or digit yet.
     let mut word: Option<(usize, bool)> = None;
     let mut last = None;
-    for p in NonAlnum::new(b) {
+    for p in events {
         // Letters and digits between the previous such byte and this one.
         if p > last.map_or(0, |l| l + 1) {
             let run_start = last.map_or(0, |l| l + 1);
@@ -590,7 +612,7 @@ mod tests {
                 s.push(alphabet[(x % alphabet.len() as u64) as usize] as char);
             }
             let mut ours = Vec::new();
-            ascii_word_spans(&s, &mut ours);
+            ascii_word_spans(&s, NonAlnum::new(s.as_bytes()), &mut ours);
             assert_eq!(ours, word_spans(&s), "{s:?}");
         }
     }
