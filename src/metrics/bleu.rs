@@ -626,25 +626,19 @@ impl SentenceBleu {
         self.reference.tokenize_with(reference, reference_events);
         self.ids.reset(self.hyp.len());
         self.hyp_ids.clear();
-        let mut filter = [0u64; 4];
         for (t, key) in self.hyp.keyed() {
             self.hyp_ids.push(self.ids.get_or_insert(t, key));
-            let bit = filter_bit(t.as_bytes());
-            filter[bit / 64] |= 1 << (bit % 64);
         }
         self.ref_ids.clear();
         let ids = &self.ids;
         let reference = &self.reference;
         let padded = reference.text.as_bytes();
         self.ref_ids.extend(reference.spans.iter().map(|&(s, e)| {
-            // The filter first: most tokens stop there, before any key or slice is made.
-            let bit = filter_bit(&padded[s..e]);
-            if filter[bit / 64] & (1 << (bit % 64)) == 0 {
-                ABSENT
-            } else {
-                let key = StrIds::key_in_padded(padded, s, e - s);
-                ids.get(&reference.text[s..e], key).unwrap_or(ABSENT)
-            }
+            let found = match StrIds::key_in_padded(padded, s, e - s).filter(|&k| k != 0) {
+                Some(key) => ids.get_short(key),
+                None => ids.long.get(&reference.text[s..e]),
+            };
+            found.unwrap_or(ABSENT)
         }));
         let k = self.ids.len as usize;
         let (correct, total) = self.counter.count_ids(&self.hyp_ids, k, &[&self.ref_ids]);
@@ -652,47 +646,97 @@ impl SentenceBleu {
     }
 }
 
-/// Bit of a token in [`SentenceBleu`]'s filter, 0..256.
-fn filter_bit(b: &[u8]) -> usize {
-    let (first, last) = (b.first().copied().unwrap_or(0), b.last().copied().unwrap_or(0));
-    (usize::from(first).wrapping_mul(7) ^ usize::from(last).wrapping_mul(31) ^ b.len()) & 255
-}
-
-/// Ids of the hypothesis's distinct tokens, 0, 1, … in order of first occurrence: tokens
-/// of up to 15 bytes by their [`StrIds::key`] in a table sized for the hypothesis,
-/// longer ones in a map.
+/// Ids of the hypothesis's distinct tokens, 0, 1, … in order of first occurrence.
+///
+/// Every reference token is looked up here, and about two in three are not there, so the
+/// lookup is built to need no branch the processor could mispredict: tokens of up to 15
+/// bytes sit by their [`StrIds::key`] in a direct-mapped table with at least eight slots
+/// per token, and a lookup is one load and a comparison. A token whose slot another took
+/// first (rare, so the processor predicts the test) goes to `spilled`, and its slot is
+/// marked so that lookups there ask `spilled`; longer tokens go to `long`.
 #[derive(Debug, Default, Clone)]
 struct HypothesisIds {
-    short: NgramTable,
+    keys: Vec<u128>,
+    values: Vec<u32>,
+    /// Per slot: another token wanted it.
+    crowded: Vec<bool>,
+    used: Vec<usize>,
+    shift: u32,
+    spilled: rustc_hash::FxHashMap<u128, u32>,
     long: StrIds,
     len: u32,
 }
 
 impl HypothesisIds {
     fn reset(&mut self, tokens: usize) {
-        self.short.reset(tokens);
+        let cap = (8 * tokens).next_power_of_two().max(64);
+        if cap == self.keys.len() {
+            for &i in &self.used {
+                self.keys[i] = 0;
+                self.crowded[i] = false;
+            }
+        } else {
+            self.keys.clear();
+            self.keys.resize(cap, 0);
+            self.values.resize(cap, 0);
+            self.crowded.clear();
+            self.crowded.resize(cap, false);
+        }
+        self.used.clear();
+        self.shift = 64 - cap.trailing_zeros();
+        self.spilled.clear();
         self.long.clear();
         self.len = 0;
     }
 
-    /// The id of `t`, whose key is `key`.
+    fn slot(&self, key: u128) -> usize {
+        let mixed = (key as u64 ^ (key >> 64) as u64).wrapping_mul(0x9E37_79B9_7F4A_7C15);
+        (mixed >> self.shift) as usize
+    }
+
+    /// The id of `t`, whose key is `key`, given on first sight.
     fn get_or_insert(&mut self, t: &str, key: Option<u128>) -> u32 {
-        let next = self.len;
-        let id = match key.filter(|&k| k != 0) {
-            Some(key) => self.short.get_or_insert(key, next),
-            None => self.long.get_or_insert(t, || next),
-        };
-        if id == next {
-            self.len += 1;
+        if let Some(id) = self.get(t, key) {
+            return id;
+        }
+        let id = self.len;
+        self.len += 1;
+        match key.filter(|&k| k != 0) {
+            None => self.long.insert(t, id),
+            Some(key) => {
+                let i = self.slot(key);
+                if self.keys[i] == 0 && !self.crowded[i] {
+                    self.keys[i] = key;
+                    self.values[i] = id;
+                } else {
+                    self.crowded[i] = true;
+                    self.spilled.insert(key, id);
+                }
+                self.used.push(i);
+            }
         }
         id
     }
 
     fn get(&self, t: &str, key: Option<u128>) -> Option<u32> {
         match key.filter(|&k| k != 0) {
-            Some(key) => self.short.get(key),
+            Some(key) => self.get_short(key),
             None => self.long.get(t),
         }
+    }
+
+    /// [`Self::get`] of a token of 1 to 15 bytes, by its key.
+    #[inline]
+    fn get_short(&self, key: u128) -> Option<u32> {
+        let i = self.slot(key);
+        if self.crowded[i] {
+            if self.keys[i] == key {
+                return Some(self.values[i]);
+            }
+            return self.spilled.get(&key).copied();
+        }
+        let value = self.values[i];
+        if self.keys[i] == key { Some(value) } else { None }
     }
 }
 
@@ -899,6 +943,38 @@ mod tests {
                 let want = modified_precision(&hyp, &refs, n);
                 assert_eq!((correct[n - 1], total[n - 1]), want, "n={n} {hyp:?} {refs:?}");
             }
+        }
+    }
+
+    #[test]
+    fn hypothesis_ids_keep_every_token_through_crowded_slots() {
+        // Enough tokens that many slots are wanted twice; long ones too.
+        let mut ids = HypothesisIds::default();
+        for n in [1usize, 30, 3_000] {
+            ids.reset(n);
+            let tokens: Vec<String> =
+                (0..n)
+                    .map(|i| {
+                        if i % 7 == 0 {
+                            format!("long-token-number-{i:06}")
+                        } else {
+                            format!("t{i}")
+                        }
+                    })
+                    .collect();
+            let key = |t: &str| StrIds::key(t);
+            for (i, t) in tokens.iter().enumerate() {
+                assert_eq!(ids.get(t, key(t)), None, "{t}");
+                assert_eq!(ids.get_or_insert(t, key(t)), i as u32);
+                assert_eq!(ids.get_or_insert(t, key(t)), i as u32);
+            }
+            for (i, t) in tokens.iter().enumerate() {
+                assert_eq!(ids.get(t, key(t)), Some(i as u32), "{t}");
+            }
+            for absent in ["", "x", "t-1", "long-token-number-999999"] {
+                assert_eq!(ids.get(absent, key(absent)), None, "{absent}");
+            }
+            assert!(n < 3_000 || ids.crowded.iter().any(|&c| c), "no slot was crowded");
         }
     }
 

@@ -165,21 +165,6 @@ impl StrIds {
         }
     }
 
-    /// The id of `s`, inserting `new()` if it has none.
-    pub(crate) fn get_or_insert(&mut self, s: &str, new: impl FnOnce() -> u32) -> u32 {
-        match Self::key(s) {
-            Some(k) => *self.short.entry(k).or_insert_with(new),
-            None => match self.long.get(s) {
-                Some(&id) => id,
-                None => {
-                    let id = new();
-                    self.long.insert(s.into(), id);
-                    id
-                }
-            },
-        }
-    }
-
     pub(crate) fn insert(&mut self, s: &str, id: u32) {
         match Self::key(s) {
             Some(k) => self.short.insert(k, id),
@@ -399,11 +384,11 @@ mod tests {
         let words =
             ["", "a", "a\0", "\0", "ab", "abcdefghijklmno", "abcdefghijklmnop", "abcdefghijklmnoq"];
         for (i, w) in words.iter().enumerate() {
-            assert_eq!(ids.get_or_insert(w, || i as u32), i as u32, "{w:?}");
+            assert_eq!(ids.get(w), None, "{w:?}");
+            ids.insert(w, i as u32);
         }
         for (i, w) in words.iter().enumerate() {
             assert_eq!(ids.get(w), Some(i as u32), "{w:?}");
-            assert_eq!(ids.get_or_insert(w, || 99), i as u32);
         }
         assert_eq!(ids.get("abcdefghijklmn"), None);
         assert_eq!(ids.len(), words.len());

@@ -63,6 +63,10 @@ pub struct PairMetrics {
 /// Entries of the front caches of [`PairScorer`]'s words: `1 << FRONT_BITS` (192 KiB).
 pub(crate) const FRONT_BITS: u32 = 13;
 
+/// Most distinct candidate units for which ROUGE-2 counts bigrams in a dense array
+/// (`(k + 1)²` cells, 4 KiB per side at 32) rather than a table.
+const DENSE_BIGRAMS: usize = 32;
+
 /// Marks a reference unit that the candidate does not hold.
 const ABSENT: u32 = u32::MAX;
 
@@ -95,6 +99,8 @@ pub struct PairScorer {
     spans: Vec<(usize, usize)>,
     cand_counts: Vec<u32>,
     ref_counts: Vec<u32>,
+    /// The cells of the candidate's distinct bigrams in [`Self::rouge2_dense`].
+    cand_cells: Vec<usize>,
     bigrams: NgramTable,
     lcs: LcsTable,
     bleu: SentenceBleu,
@@ -121,6 +127,7 @@ impl PairScorer {
             spans: Vec::new(),
             cand_counts: Vec::new(),
             ref_counts: Vec::new(),
+            cand_cells: Vec::new(),
             bigrams: NgramTable::default(),
             lcs: LcsTable::new(&[], 0),
             bleu: SentenceBleu::default(),
@@ -174,7 +181,7 @@ impl PairScorer {
         self.cand_units = cand_units;
         let k = distinct as usize;
         let rouge1 = self.rouge1(&cand, &refr, k);
-        let rouge2 = self.rouge2(&cand, &refr);
+        let rouge2 = self.rouge2(&cand, &refr, k);
         let rouge_l = if cand.is_empty() || refr.is_empty() {
             Prf::default()
         } else {
@@ -209,7 +216,10 @@ impl PairScorer {
 
     /// ROUGE-2: the candidate's bigrams in a table, the reference's looked up only when
     /// both of their units occur in the candidate.
-    fn rouge2(&mut self, cand: &[u32], refr: &[u32]) -> Prf {
+    fn rouge2(&mut self, cand: &[u32], refr: &[u32], k: usize) -> Prf {
+        if k <= DENSE_BIGRAMS {
+            return self.rouge2_dense(cand, refr, k);
+        }
         // Local ids + 1, so that no key is 0.
         let key = |a: u32, b: u32| u128::from(a + 1) << 32 | u128::from(b + 1);
         self.bigrams.reset(cand.len());
@@ -233,6 +243,36 @@ impl PairScorer {
         }
         let overlap: usize =
             self.cand_counts.iter().zip(&self.ref_counts).map(|(&c, &r)| c.min(r) as usize).sum();
+        overlap_prf(overlap, cand.len().saturating_sub(1), refr.len().saturating_sub(1))
+    }
+
+    /// [`Self::rouge2`] for a candidate of at most [`DENSE_BIGRAMS`] distinct units: bigram
+    /// counts in a `(k + 1)²` array, the last row and column for absent units, so that the
+    /// reference's bigrams are counted without a branch or a search.
+    fn rouge2_dense(&mut self, cand: &[u32], refr: &[u32], k: usize) -> Prf {
+        let width = k + 1;
+        let cell = |a: u32, b: u32| (a as usize).min(k) * width + (b as usize).min(k);
+        self.cand_counts.clear();
+        self.cand_counts.resize(width * width, 0);
+        self.ref_counts.clear();
+        self.ref_counts.resize(width * width, 0);
+        self.cand_cells.clear();
+        for w in cand.windows(2) {
+            let c = cell(w[0], w[1]);
+            if self.cand_counts[c] == 0 {
+                self.cand_cells.push(c);
+            }
+            self.cand_counts[c] += 1;
+        }
+        for w in refr.windows(2) {
+            self.ref_counts[cell(w[0], w[1])] += 1;
+        }
+        // Only the candidate's bigrams can overlap.
+        let overlap: usize = self
+            .cand_cells
+            .iter()
+            .map(|&c| self.cand_counts[c].min(self.ref_counts[c]) as usize)
+            .sum();
         overlap_prf(overlap, cand.len().saturating_sub(1), refr.len().saturating_sub(1))
     }
 
@@ -590,6 +630,20 @@ mod tests {
                     }
                 }
             }
+        }
+    }
+
+    #[test]
+    fn bigram_counts_agree_on_both_sides_of_the_dense_limit() {
+        // Candidates of DENSE_BIGRAMS distinct units and more, against references that
+        // repeat their bigrams and mix in others.
+        let mut scorer = PairScorer::new(RougeTokens::Unicode, false);
+        for distinct in [DENSE_BIGRAMS - 1, DENSE_BIGRAMS, DENSE_BIGRAMS + 1, 3 * DENSE_BIGRAMS] {
+            let words: Vec<String> = (0..distinct).map(|i| format!("w{i}")).collect();
+            let c = words.join(" ");
+            let r = format!("{c} x y {} {} z", words[..distinct / 2].join(" "), c);
+            assert_eq!(scorer.score(&c, &r), composed(&c, &r, RougeTokens::Unicode, false));
+            assert_eq!(scorer.score(&r, &c), composed(&r, &c, RougeTokens::Unicode, false));
         }
     }
 

@@ -14,7 +14,7 @@
 //! * a plain Rust pass that lower-cases, splits on non-alphanumerics and hashes word
 //!   bigrams (about the least any lexical metric must do with the text);
 //! * the reference libraries, when a Python with them is at hand: `rouge-score` (ROUGE-1/2/L
-//!   with its stemmer) and `sacrebleu`'s `sentence_bleu`, timed by
+//!   with its stemmer) and `sacrebleu`'s `sentence_bleu`, timed (best of three) by
 //!   tests/bench/metrics_baseline.py on the first 2,000 pairs. The Python is
 //!   `PLUMBLINE_BENCH_PYTHON` if set (`skip` skips this baseline), else a virtualenv the
 //!   bench keeps in `target/bench-python` (made on first use, with the versions pinned in
@@ -443,6 +443,7 @@ struct PythonFigures {
     bleu_version: String,
     bleu: Timing,
     pairs: usize,
+    runs: usize,
 }
 
 fn target_dir() -> PathBuf {
@@ -553,6 +554,7 @@ fn python_baseline(pairs: &[Pair]) -> Result<PythonFigures, String> {
         bleu_version: text("sacrebleu", "version"),
         bleu: timing("sacrebleu")?,
         pairs: n,
+        runs: v["runs"].as_u64().unwrap_or(1) as usize,
     })
 }
 
@@ -617,16 +619,18 @@ fn main() {
                 .sum::<usize>() as f64
                 / 1e6;
             println!(
-                "rouge-score {} (rouge1, rouge2, rougeL, use_stemmer=True), Python {}, first {} pairs, once: {}",
+                "rouge-score {} (rouge1, rouge2, rougeL, use_stemmer=True), Python {}, first {} pairs, best of {}: {}",
                 p.rouge_version,
                 p.python,
                 p.pairs,
+                p.runs,
                 p.rouge.rates(sub, sub_mb)
             );
             println!(
-                "sacrebleu {} sentence_bleu (defaults), first {} pairs, once: {}",
+                "sacrebleu {} sentence_bleu (defaults), first {} pairs, best of {}: {}",
                 p.bleu_version,
                 p.pairs,
+                p.runs,
                 p.bleu.rates(sub, sub_mb)
             );
         }
