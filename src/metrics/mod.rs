@@ -62,7 +62,7 @@ impl<'a> NonAlnum<'a> {
         let x = u64::from_le_bytes(chunk.try_into().unwrap_or([0; 8]));
         let ascii = !x & TOP;
         let low = x & !TOP;
-        let folded = (x | 0x20 * ONES) & !TOP;
+        let folded = (x | (0x20 * ONES)) & !TOP;
         let letter = at_least(folded, 0x61) & !at_least(folded, 0x7B);
         let digit = at_least(low, 0x30) & !at_least(low, 0x3A);
         let others = !((letter | digit) & ascii) & TOP;

@@ -6,17 +6,27 @@
 //! [`ascii_alnum_words`], [`stem_if_long`], [`rouge_n`](super::rouge::rouge_n),
 //! [`rouge_l`](super::rouge::rouge_l) and [`sentence_bleu`](super::bleu::sentence_bleu),
 //! bit for bit (tested) — but is built to score many pairs: `plumbline score --pairs`
-//! and the metrics benchmark run every pair through one scorer. What makes it cheaper:
+//! and the metrics benchmark run every pair through one scorer. Where the time goes, and
+//! why it is spent this way (measured with `cargo bench --bench metrics`; see
+//! DEVELOPERS.md, "Benchmarks"):
 //!
-//! * every distinct word is stemmed once: a cache maps a word to a small integer, the id
-//!   of its unit (its stem when stemming, else the word), so that different words with the
-//!   same stem share an id exactly (no hashing of stems into ids that could collide);
-//! * per pair, the candidate's units get dense local ids and every reference unit absent
-//!   from the candidate is marked absent (an array indexed by unit id, so no branch), so ROUGE-1 is counting in an array, ROUGE-2 looks
-//!   up only bigrams whose two units both occur in the candidate, and ROUGE-L is one
-//!   64-bit-block pass of the bit-parallel LCS per reference token;
-//! * BLEU reuses its token buffers and counts n-grams over ids
-//!   ([`SentenceBleu`]).
+//! * Tokenising is done at the bytes that are not ASCII letters or digits, found 32 at a
+//!   time (`NonAlnum` in the parent module), once for the reference and shared by the word
+//!   and the `13a` tokenisers. ASCII text takes a word scanner equal to
+//!   [`word_spans`] on ASCII (tested); only the stretches around non-ASCII characters go
+//!   through [`fold`] and [`word_spans`].
+//! * Every distinct word is stemmed once: a cache maps a word to a small integer, the id
+//!   of its unit (its stem when stemming, else the word), so that different words with
+//!   the same stem share an id exactly (no hashing of stems into ids that could collide).
+//!   Words of up to 15 bytes are keyed by their bytes packed in a `u128`, looked up first
+//!   in a direct-mapped front cache that keeps the frequent words close to the processor.
+//! * Per pair, the candidate's units get dense local ids and every reference unit absent
+//!   from the candidate is marked absent, through an array indexed by unit id. ROUGE-1
+//!   is then counting in arrays, ROUGE-2 counting in a dense `(k + 1)²` array for small
+//!   candidates, ROUGE-L one 64-bit-block pass of the bit-parallel LCS per reference
+//!   token. About two reference words in three are absent, unpredictably, so these loops
+//!   are written without branches on it: a mispredicted branch costs more than the work.
+//! * BLEU reuses its token buffers and counts n-grams over ids ([`SentenceBleu`]).
 //!
 //! The cache is emptied when it passes [`CACHE_WORDS`] words or [`CACHE_BYTES`] bytes, so
 //! memory stays bounded however many distinct words the input holds. Its hash is FxHash,

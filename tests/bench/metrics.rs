@@ -196,7 +196,7 @@ fn sentence(rng: &mut Rng, vocab: &[String], typographic: bool) -> Vec<String> {
     words
 }
 
-fn capitalise(w: &mut String) {
+fn capitalise(w: &mut str) {
     if let Some(first) = w.get_mut(0..1) {
         first.make_ascii_uppercase();
     }
