@@ -32,12 +32,17 @@
 //! memory stays bounded however many distinct words the input holds. Its hash is FxHash,
 //! not a keyed one: text crafted to collide could slow lookups down, never change a result.
 
+use rustc_hash::FxHashMap;
+
 use super::bleu::{Bleu, SentenceBleu};
 use super::rouge::{LcsTable, Prf};
 use super::{FrontCache, NgramTable, NonAlnum, StrIds};
 use crate::text::normalize::fold;
 use crate::text::stem::stem_if_long;
 use crate::text::tokens::{ascii_alnum_words, word_spans};
+
+/// Longest stretch of non-ASCII text whose units are kept, in bytes.
+const MAX_STRETCH_BYTES: usize = 64;
 
 /// Words the cache holds at most before it is emptied.
 pub const CACHE_WORDS: usize = 1 << 20;
@@ -89,6 +94,8 @@ pub struct PairScorer {
     front: FrontCache,
     /// Word → id of its unit.
     words: StrIds,
+    /// Stretch of text with non-ASCII characters → its units ([`Self::stretch_units`]).
+    stretches: FxHashMap<Box<str>, Box<[u32]>>,
     /// Unit → id, when stemming (without stemming a word is its own unit).
     units: StrIds,
     units_len: u32,
@@ -125,6 +132,7 @@ impl PairScorer {
             stem,
             front: FrontCache::new(FRONT_BITS),
             words: StrIds::default(),
+            stretches: FxHashMap::default(),
             units: StrIds::default(),
             units_len: 0,
             cached_bytes: 0,
@@ -146,7 +154,9 @@ impl PairScorer {
 
     /// The metrics of `candidate` (the text judged) against `reference`.
     pub fn score(&mut self, candidate: &str, reference: &str) -> PairMetrics {
-        if self.words.len() > CACHE_WORDS || self.cached_bytes > CACHE_BYTES {
+        if self.words.len() + self.stretches.len() > CACHE_WORDS || self.cached_bytes > CACHE_BYTES
+        {
+            self.stretches.clear();
             self.words.clear();
             self.units.clear();
             self.units_len = 0;
@@ -310,10 +320,7 @@ impl PairScorer {
                     let start = (pos + 1..=k).rev().find(|&p| cut(p)).unwrap_or(pos);
                     let end = (k + 1..b.len()).find(|&p| cut(p)).unwrap_or(b.len());
                     self.ascii_units(&text[pos..start], out, None);
-                    let folded = fold(&text[start..end]);
-                    for (s, e) in word_spans(&folded) {
-                        out.push(self.unit(&folded[s..e]));
-                    }
+                    self.stretch_units(&text[start..end], out);
                     pos = end;
                 }
             }
@@ -333,6 +340,26 @@ impl PairScorer {
                     out.push(self.unit(&w));
                 }
             }
+        }
+    }
+
+    /// [`RougeTokens::Unicode`] units of a stretch of text with non-ASCII characters:
+    /// [`fold`], then [`word_spans`]. The same stretches come back (a word with a curly
+    /// apostrophe, a dash and the word before it), and folding is dear, so the units of
+    /// short stretches are kept (and dropped with the word cache, whose ids they hold).
+    fn stretch_units(&mut self, stretch: &str, out: &mut Vec<u32>) {
+        if let Some(units) = self.stretches.get(stretch) {
+            out.extend_from_slice(units);
+            return;
+        }
+        let first = out.len();
+        let folded = fold(stretch);
+        for (s, e) in word_spans(&folded) {
+            out.push(self.unit(&folded[s..e]));
+        }
+        if stretch.len() <= MAX_STRETCH_BYTES {
+            self.cached_bytes += stretch.len() + 4 * (out.len() - first);
+            self.stretches.insert(stretch.into(), out[first..].into());
         }
     }
 
