@@ -670,7 +670,9 @@ struct HypothesisIds {
 
 impl HypothesisIds {
     fn reset(&mut self, tokens: usize) {
-        let cap = (8 * tokens).next_power_of_two().max(64);
+        // Kept between pairs up to a size, so that texts of varying length do not make it
+        // reallocate.
+        let cap = super::kept_capacity((8 * tokens).next_power_of_two().max(64), self.keys.len());
         if cap == self.keys.len() {
             for &i in &self.used {
                 self.keys[i] = 0;

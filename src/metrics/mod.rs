@@ -224,6 +224,15 @@ impl FrontCache {
     }
 }
 
+/// Slots a per-pair table keeps between pairs rather than shrink to fit.
+pub(crate) const KEEP_SLOTS: usize = 4096;
+
+/// The capacity for a table that needs `needed` slots and has `current`: the current one
+/// if it is larger but not above [`KEEP_SLOTS`].
+pub(crate) fn kept_capacity(needed: usize, current: usize) -> usize {
+    if current > needed && current <= KEEP_SLOTS { current } else { needed }
+}
+
 /// A small open-addressing table from nonzero `u128` keys to `u32` values, for the
 /// n-grams of one hypothesis or candidate: sized once per pair to at least twice the most
 /// keys it will hold, probed linearly, cleared by refilling with zeros. Cheaper than a
@@ -238,9 +247,10 @@ pub(crate) struct NgramTable {
 }
 
 impl NgramTable {
-    /// Empties the table, ready for up to `most` keys.
+    /// Empties the table, ready for up to `most` keys. Up to [`KEEP_SLOTS`] it does not
+    /// shrink, so that texts of varying length do not make it reallocate back and forth.
     pub(crate) fn reset(&mut self, most: usize) {
-        let cap = (2 * most).next_power_of_two().max(16);
+        let cap = kept_capacity((2 * most).next_power_of_two().max(16), self.keys.len());
         if cap == self.keys.len() {
             for &i in &self.used {
                 self.keys[i] = 0;
