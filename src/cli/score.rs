@@ -12,11 +12,12 @@ use serde::Serialize;
 use serde_json::Value;
 
 use super::{Outcome, UsageError};
-use crate::metrics::bleu::{self, Bleu};
+use crate::answers::lines::{LineKind, LineSource};
+use crate::answers::{Fields, decode_line, parse_strict, syntax_message};
+use crate::metrics::bleu::Bleu;
 use crate::metrics::fuzzy;
-use crate::metrics::rouge::{self, Prf};
-use crate::text::stem::stem_if_long;
-use crate::text::tokens::{ascii_alnum_words, unicode_words};
+use crate::metrics::pair::{PairMetrics, PairScorer, RougeTokens};
+use crate::metrics::rouge::Prf;
 
 /// Which tokens ROUGE compares.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, ValueEnum, Default)]
@@ -46,7 +47,15 @@ pub struct ScoreArgs {
     /// Stem ROUGE tokens with Snowball English (tokens of 3 characters or fewer unstemmed).
     #[arg(long)]
     stem: bool,
+    /// Longest line of --pairs, in bytes; a longer line is reported and skipped. Levenshtein
+    /// and Jaro-Winkler take time proportional to the product of the two texts' lengths
+    /// (about 4 s for two texts of 32,000 characters).
+    #[arg(long, value_name = "BYTES", default_value_t = DEFAULT_MAX_LINE_BYTES)]
+    max_line_bytes: usize,
 }
+
+/// Default of `--max-line-bytes`: 64 KiB.
+pub const DEFAULT_MAX_LINE_BYTES: usize = 64 * 1024;
 
 /// Levenshtein distance and normalised similarity.
 #[derive(Debug, Serialize)]
@@ -78,22 +87,29 @@ pub struct Scores {
     pub jaro_winkler: f64,
 }
 
+impl From<Tokenizer> for RougeTokens {
+    fn from(t: Tokenizer) -> RougeTokens {
+        match t {
+            Tokenizer::Unicode => RougeTokens::Unicode,
+            Tokenizer::AsciiAlnum => RougeTokens::AsciiAlnum,
+        }
+    }
+}
+
 /// Computes every metric of `score` for one pair.
 pub fn score_pair(candidate: &str, reference: &str, tokenizer: Tokenizer, stem: bool) -> Scores {
-    let tok = |s: &str| {
-        let words = match tokenizer {
-            Tokenizer::Unicode => unicode_words(s),
-            Tokenizer::AsciiAlnum => ascii_alnum_words(s),
-        };
-        if stem { words.iter().map(|w| stem_if_long(w)).collect() } else { words }
-    };
-    let (c, r) = (tok(candidate), tok(reference));
+    score_with(&mut PairScorer::new(tokenizer.into(), stem), candidate, reference)
+}
+
+/// [`score_pair`] with a scorer kept across pairs.
+fn score_with(scorer: &mut PairScorer, candidate: &str, reference: &str) -> Scores {
+    let PairMetrics { rouge1, rouge2, rouge_l, bleu } = scorer.score(candidate, reference);
     Scores {
         id: None,
-        rouge1: rouge::rouge_n(&c, &r, 1),
-        rouge2: rouge::rouge_n(&c, &r, 2),
-        rouge_l: rouge::rouge_l(&c, &r),
-        bleu: bleu::sentence_bleu(candidate, &[reference]),
+        rouge1,
+        rouge2,
+        rouge_l,
+        bleu,
         levenshtein: Levenshtein {
             distance: fuzzy::levenshtein(candidate, reference),
             similarity: fuzzy::levenshtein_similarity(candidate, reference),
@@ -110,34 +126,27 @@ struct PairError<'a> {
     error: String,
 }
 
-/// Reads one pair line: `{"id", "candidate", "reference"}`.
-fn parse_pair(line: &str) -> (Option<Value>, Result<(String, String), String>) {
-    let v: Value = match serde_json::from_str(line) {
+/// Reads one pair line, `{"id", "candidate", "reference"}`, into its id (any JSON value,
+/// echoed back) and its two texts; the error names the field. Read with the strict parser
+/// every JSON input goes through (a repeated key is an error, not a silent choice).
+fn parse_pair(text: &str) -> (Option<Value>, Result<(String, String), String>) {
+    let value = match parse_strict(text) {
         Ok(v) => v,
-        Err(e) => return (None, Err(format!("invalid JSON: {e}"))),
+        Err(e) => {
+            let (message, column) = syntax_message(&e);
+            return (None, Err(format!("invalid JSON at column {column}: {message}")));
+        }
     };
-    let Some(obj) = v.as_object() else {
-        return (None, Err("expected a JSON object".into()));
+    let fields = match Fields::of(&value, "") {
+        Ok(f) => f,
+        Err(e) => return (None, Err(e.to_string())),
     };
-    let id = obj.get("id").cloned();
-    let field = |name: &str| match obj.get(name) {
-        Some(Value::String(s)) => Ok(s.clone()),
-        Some(other) => Err(format!("{name}: expected a string, found {}", type_name(other))),
-        None => Err(format!("{name}: missing")),
-    };
-    let pair = field("candidate").and_then(|c| field("reference").map(|r| (c, r)));
+    let id = fields.present("id").cloned();
+    let pair = fields
+        .string("candidate")
+        .and_then(|c| fields.string("reference").map(|r| (c, r)))
+        .map_err(|e| e.to_string());
     (id, pair)
-}
-
-fn type_name(v: &Value) -> &'static str {
-    match v {
-        Value::Null => "null",
-        Value::Bool(_) => "a boolean",
-        Value::Number(_) => "a number",
-        Value::String(_) => "a string",
-        Value::Array(_) => "an array",
-        Value::Object(_) => "an object",
-    }
 }
 
 /// Runs `plumbline score`.
@@ -150,58 +159,66 @@ pub fn execute(args: &ScoreArgs) -> Result<Outcome> {
             Ok(Outcome::Pass)
         }
         (None, None, Some(path)) => {
-            let reader: Box<dyn BufRead> = if path.as_os_str() == "-" {
+            let stdin = path.as_os_str() == "-";
+            let origin = if stdin { "<stdin>".to_owned() } else { path.display().to_string() };
+            let reader: Box<dyn BufRead> = if stdin {
                 Box::new(io::stdin().lock())
             } else {
                 let f = File::open(path)
-                    .map_err(|e| UsageError(format!("cannot read {}: {e}", path.display())))?;
+                    .map_err(|e| UsageError(format!("cannot read {origin}: {e}")))?;
                 Box::new(BufReader::new(f))
             };
-            let mut bad = 0usize;
-            for (i, line) in reader.split(b'\n').enumerate() {
-                let line_no = i + 1;
-                let bytes = line.with_context(|| format!("reading {}", path.display()))?;
-                let text = match std::str::from_utf8(&bytes) {
-                    Ok(t) => t.trim_end_matches('\r').trim_start_matches('\u{feff}'),
-                    Err(e) => {
-                        bad += 1;
-                        serde_json::to_writer(
-                            &mut out,
-                            &PairError {
-                                id: None,
-                                line: line_no,
-                                error: format!("invalid UTF-8: {e}"),
-                            },
-                        )?;
-                        writeln!(out)?;
-                        continue;
-                    }
+            // Lines are read with a bounded buffer: a runaway line is reported and skipped
+            // without being held in memory (and without the quadratic character-level
+            // metrics running on it).
+            let mut source = LineSource::new(reader, args.max_line_bytes);
+            let mut buf = Vec::new();
+            let mut scorer = PairScorer::new(args.tokenizer.into(), args.stem);
+            let (mut scored, mut bad) = (0usize, 0usize);
+            loop {
+                let next = source.next_line(&mut buf).with_context(|| {
+                    format!("reading {origin} at line {}", source.lines_read() + 1)
+                })?;
+                let Some((line, kind)) = next else { break };
+                let (id, pair) = match kind {
+                    LineKind::TooLong { bytes } => (
+                        None,
+                        Err(format!(
+                            "line is {bytes} bytes long, more than the limit of {} \
+                             (--max-line-bytes); not read",
+                            args.max_line_bytes
+                        )),
+                    ),
+                    LineKind::Text => match decode_line(&buf) {
+                        Ok(text) => parse_pair(text),
+                        Err(e) => (None, Err(e)),
+                    },
                 };
-                if text.trim().is_empty() {
-                    continue;
-                }
-                match parse_pair(text) {
-                    (id, Ok((c, r))) => {
-                        let mut s = score_pair(&c, &r, args.tokenizer, args.stem);
+                match pair {
+                    Ok((c, r)) => {
+                        scored += 1;
+                        let mut s = score_with(&mut scorer, &c, &r);
                         s.id = id;
                         serde_json::to_writer(&mut out, &s)?;
                     }
-                    (id, Err(error)) => {
+                    Err(error) => {
                         bad += 1;
-                        let error = format!("{}:{line_no}: {error}", path.display());
+                        let error = format!("{origin}:{line}: {error}");
                         serde_json::to_writer(
                             &mut out,
-                            &PairError { id: id.as_ref(), line: line_no, error },
+                            &PairError { id: id.as_ref(), line, error },
                         )?;
                     }
                 }
                 writeln!(out)?;
             }
-            if bad > 0 {
+            if scored + bad == 0 {
+                let _ = writeln!(io::stderr(), "plumbline score: {origin} holds no pairs");
+            } else if bad > 0 {
                 let _ = writeln!(
                     io::stderr(),
-                    "plumbline score: {bad} line(s) of {} could not be scored",
-                    path.display()
+                    "plumbline score: {bad} of {} line(s) of {origin} could not be scored",
+                    scored + bad
                 );
             }
             Ok(Outcome::Pass)

@@ -26,7 +26,8 @@ pub struct Prf {
 }
 
 impl Prf {
-    fn new(precision: f64, recall: f64) -> Prf {
+    /// Precision and recall with their harmonic mean ([`super::fmeasure`]).
+    pub fn new(precision: f64, recall: f64) -> Prf {
         Prf { precision, recall, f: fmeasure(precision, recall) }
     }
 }
@@ -113,7 +114,8 @@ pub fn lcs_len<T: Eq + Hash>(a: &[T], b: &[T]) -> usize {
 #[derive(Debug, Clone)]
 pub struct LcsTable {
     blocks: usize,
-    /// `masks[sym * blocks + k]`: bits of the positions of `sym` in block `k`.
+    /// `masks[sym * blocks + k]`: bits of the positions of `sym` in block `k`; the row
+    /// `alphabet` is all zeros.
     masks: Vec<u64>,
     alphabet: usize,
 }
@@ -121,12 +123,23 @@ pub struct LcsTable {
 impl LcsTable {
     /// Prepares `a`, whose symbols must be below `alphabet`.
     pub fn new(a: &[u32], alphabet: usize) -> LcsTable {
+        let mut table = LcsTable { blocks: 0, masks: Vec::new(), alphabet: 0 };
+        table.prepare(a, alphabet);
+        table
+    }
+
+    /// Prepares `a` in place of the sequence prepared before, reusing the memory.
+    pub fn prepare(&mut self, a: &[u32], alphabet: usize) {
         let blocks = a.len().div_ceil(64).max(1);
-        let mut masks = vec![0u64; alphabet * blocks];
+        self.masks.clear();
+        // One more row, all zeros, for the symbols outside the alphabet: a zero mask leaves
+        // the bit vector as it is, so they need no branch.
+        self.masks.resize((alphabet + 1) * blocks, 0);
         for (i, &sym) in a.iter().enumerate() {
-            masks[sym as usize * blocks + i / 64] |= 1u64 << (i % 64);
+            self.masks[sym as usize * blocks + i / 64] |= 1u64 << (i % 64);
         }
-        LcsTable { blocks, masks, alphabet }
+        self.blocks = blocks;
+        self.alphabet = alphabet;
     }
 
     /// LCS length of the prepared sequence and `b`; symbols of `b` outside the alphabet
@@ -135,11 +148,9 @@ impl LcsTable {
         if self.blocks == 1 {
             let mut v = u64::MAX;
             for sym in b {
-                if (sym as usize) < self.alphabet {
-                    let m = self.masks[sym as usize];
-                    let u = v & m;
-                    v = v.wrapping_add(u) | (v & !m);
-                }
+                let m = self.masks[(sym as usize).min(self.alphabet)];
+                let u = v & m;
+                v = v.wrapping_add(u) | (v & !m);
             }
             return v.count_zeros() as usize;
         }

@@ -21,5 +21,6 @@ mod properties;
 mod reliability;
 mod report;
 mod report_formats;
+mod score_input;
 mod stemmer;
 mod uax29;

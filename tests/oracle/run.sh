@@ -8,9 +8,23 @@
 #     rapidfuzz to 1e-9 (a disagreement fails this script), and
 #   - sbd_agreement.py: plumbline's sentence splitter vs pysbd on Debian's
 #     licence texts (a figure only).
-# If the package index cannot be reached, says so and exits 0: the committed
-# vectors in tests/data/oracle are still checked by `cargo test`.
+# If Python or the package index cannot be reached, says so and exits 0: the
+# committed vectors in tests/data/oracle are still checked by `cargo test`.
+# With PLUMBLINE_REQUIRE_TOOLS=1 (as .ci/run sets it) it exits 1 instead, so that
+# CI cannot pass without the external checks.
 set -u
+
+# Says why the external checks cannot run, and ends: exit 0 on a developer
+# machine, exit 1 where PLUMBLINE_REQUIRE_TOOLS=1.
+skip() {
+    echo "oracle: $*"
+    if [ "${PLUMBLINE_REQUIRE_TOOLS:-}" = 1 ]; then
+        echo "oracle: PLUMBLINE_REQUIRE_TOOLS=1, so this is a failure"
+        exit 1
+    fi
+    echo "oracle: skipping the external checks (the committed vectors are still checked by cargo test)"
+    exit 0
+}
 
 here="$(cd "$(dirname "${BASH_SOURCE[0]}")" && pwd)"
 bin="${1:-}"
@@ -22,17 +36,16 @@ bin="$(cd "$(dirname "$bin")" && pwd)/$(basename "$bin")"
 
 python="${PYTHON:-python3}"
 if ! command -v "$python" >/dev/null 2>&1; then
-    echo "oracle: no $python on this machine; skipping the external checks"
-    exit 0
+    skip "no $python on this machine"
 fi
 
 venv="$(mktemp -d "${TMPDIR:-/tmp}/plumbline-oracle.XXXXXX")"
 trap 'rm -rf "$venv"' EXIT
 
 if ! "$python" -m venv "$venv" >"$venv.log" 2>&1; then
-    echo "oracle: could not create a virtualenv ($(tail -n 1 "$venv.log")); skipping the external checks"
+    why="$(tail -n 1 "$venv.log")"
     rm -f "$venv.log"
-    exit 0
+    skip "could not create a virtualenv ($why)"
 fi
 rm -f "$venv.log"
 
@@ -42,8 +55,7 @@ if ! "$venv/bin/python" -m pip install --quiet --disable-pip-version-check --tim
         >"$venv/pip.log" 2>&1; then
     echo "oracle: could not install the pinned references from the package index:"
     tail -n 3 "$venv/pip.log" | sed 's/^/    /'
-    echo "oracle: skipping the external checks (the committed vectors are still checked by cargo test)"
-    exit 0
+    skip "no pinned references"
 fi
 
 status=0
