@@ -19,6 +19,7 @@
 use std::ops::Range;
 
 use rayon::prelude::*;
+use serde::{Deserialize, Serialize};
 
 use crate::text::numbers::Figure;
 use crate::text::sentences::split;
@@ -56,7 +57,7 @@ pub struct Hit {
 }
 
 /// The sentences of one document with their token ids.
-#[derive(Debug, Default, Clone)]
+#[derive(Debug, Default, Clone, Serialize, Deserialize)]
 pub struct DocSentences {
     /// Byte ranges (visible text) of the sentences.
     pub ranges: Vec<Range<usize>>,
@@ -95,7 +96,7 @@ impl DocSentences {
 }
 
 /// Sentences of every document and the inverted index over them.
-#[derive(Debug, Default)]
+#[derive(Debug, Default, Serialize, Deserialize)]
 pub struct Index {
     /// Per document, its sentences.
     pub docs: Vec<DocSentences>,
