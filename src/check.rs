@@ -187,6 +187,8 @@ fn evidence(ctx: &Context<'_>, loc: &Located, redact: bool) -> Evidence {
             score: round6(loc.m.score),
             matched: Vec::new(),
             access,
+            page: None,
+            page_end: None,
         };
     }
     let text = d.visible_text()[loc.visible.clone()].to_owned();
@@ -205,6 +207,8 @@ fn evidence(ctx: &Context<'_>, loc: &Located, redact: bool) -> Evidence {
         score: round6(loc.m.score),
         matched,
         access,
+        page: None,
+        page_end: None,
     }
 }
 
@@ -439,8 +443,9 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
             joined.iter().map(|(ci, loc)| evidence(ctx, loc, redact_cited(*ci))).collect();
         let mut cited_ev = None;
 
-        // Search the whole store for sentences the citations do not carry.
-        if !claim.no_claim && assessment.verdict != Verdict::Supported {
+        // Search the whole store for sentences the citations do not carry (not possible
+        // when only the cited documents were read: `Store::searchable`).
+        if ctx.store.searchable && !claim.no_claim && assessment.verdict != Verdict::Supported {
             let cited_docs: Vec<usize> =
                 candidates.iter().filter_map(|&ci| resolved[ci].doc).collect();
             let cited_score = best.as_ref().map_or(0.0, |(_, l)| l.m.score);
