@@ -108,7 +108,7 @@ fn limits_key(l: &StoreLimits) -> (u64, usize, usize) {
 }
 
 fn bad(path: &Path, message: impl Into<String>) -> StoreError {
-    StoreError::Root { path: path.to_path_buf(), message: message.into() }
+    StoreError::SavedIndex { path: path.to_path_buf(), message: message.into() }
 }
 
 /// Writes `store` and `index` to `out`, with the store's `fingerprint`; returns the

@@ -113,6 +113,14 @@ pub enum StoreError {
     /// The manifest exists but is not valid JSON of the right shape.
     #[error("{0}")]
     Manifest(#[from] manifest::ManifestError),
+    /// A saved index that cannot be used (`check --index`).
+    #[error("saved index {path}: {message}")]
+    SavedIndex {
+        /// The file.
+        path: PathBuf,
+        /// Why it cannot be used.
+        message: String,
+    },
 }
 
 /// A named byte range of a document.

@@ -74,9 +74,13 @@ fn extract_inner(bytes: &[u8]) -> Result<PdfText, PdfError> {
     if doc.is_encrypted() && doc.decrypt("").is_err() {
         return Err(PdfError::Encrypted);
     }
-    let numbers: Vec<u32> = doc.get_pages().keys().copied().collect();
+    let pages_by_number = doc.get_pages();
+    let numbers: Vec<u32> = pages_by_number.keys().copied().collect();
     if numbers.is_empty() {
         return Err(PdfError::NoPages);
+    }
+    for page_id in pages_by_number.values() {
+        spell_out_quote_operators(&mut doc, *page_id);
     }
     let mut text = String::new();
     let mut pages = Vec::with_capacity(numbers.len());
@@ -108,6 +112,42 @@ fn extract_inner(bytes: &[u8]) -> Result<PdfText, PdfError> {
         return Err(PdfError::NoText(numbers.len()));
     }
     Ok(PdfText { text, pages, empty_pages })
+}
+
+/// Rewrites the text operators `'` and `"` of a page's content as the operators they
+/// abbreviate (ISO 32000-1, table 109: `string '` is `T* string Tj`, and `aw ac string "`
+/// is `aw Tw ac Tc string '`), because the extractor does not know them and would drop
+/// their text; Ghostscript, among others, writes every line after a text object's first
+/// with `'`. Content that cannot be decoded is left as it is.
+fn spell_out_quote_operators(doc: &mut pdf_extract::Document, page_id: pdf_extract::ObjectId) {
+    use pdf_extract::content::{Content, Operation};
+    let Ok(content) = doc.get_and_decode_page_content(page_id) else { return };
+    if !content.operations.iter().any(|op| op.operator == "'" || op.operator == "\"") {
+        return;
+    }
+    let mut ops = Vec::with_capacity(content.operations.len() + 8);
+    for op in content.operations {
+        match (op.operator.as_str(), op.operands.len()) {
+            ("'", 1) => {
+                ops.push(Operation::new("T*", Vec::new()));
+                ops.push(Operation::new("Tj", op.operands));
+            }
+            ("\"", 3) => {
+                let mut operands = op.operands.into_iter();
+                let (aw, ac, text) = (operands.next(), operands.next(), operands.next());
+                if let (Some(aw), Some(ac), Some(text)) = (aw, ac, text) {
+                    ops.push(Operation::new("Tw", vec![aw]));
+                    ops.push(Operation::new("Tc", vec![ac]));
+                    ops.push(Operation::new("T*", Vec::new()));
+                    ops.push(Operation::new("Tj", vec![text]));
+                }
+            }
+            _ => ops.push(op),
+        }
+    }
+    if let Ok(bytes) = (Content { operations: ops }).encode() {
+        let _ = doc.change_page_content(page_id, bytes);
+    }
 }
 
 /// Trims a page's text: no white space at either end, no trailing spaces on lines, at

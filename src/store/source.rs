@@ -336,6 +336,12 @@ impl LazyStore {
             self.source.fetch(&new_ids, &new_groups, self.batch, &self.limits)?;
         self.ids_looked_up.extend(new_ids);
         self.groups_looked_up.extend(new_groups);
+        // A row found both by its id and by its group is the same row: keep one, and none
+        // already fetched by an earlier batch.
+        let mut rows = rows;
+        rows.sort_by(|a, b| a.id.cmp(&b.id));
+        rows.dedup_by(|a, b| a.id == b.id && a.text == b.text);
+        rows.retain(|r| !self.fetched.contains_key(&r.id));
         let mut problems = problems;
         let docs = super::sql::rows_to_documents(rows, &mut problems, &self.limits);
         for p in problems {

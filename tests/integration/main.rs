@@ -16,4 +16,5 @@ mod oracle_metrics;
 mod paper_examples;
 mod report;
 mod stemmer;
+mod stores;
 mod uax29;
