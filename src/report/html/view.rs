@@ -599,6 +599,14 @@ fn toml_value(v: &serde_json::Value) -> String {
         serde_json::Value::Array(items) => {
             format!("[{}]", items.iter().map(toml_value).collect::<Vec<_>>().join(", "))
         }
+        // A nested table (`[input.citation]`) as a TOML inline table.
+        serde_json::Value::Object(m) => format!(
+            "{{ {} }}",
+            m.iter()
+                .map(|(k, v)| format!("{k} = {}", toml_value(v)))
+                .collect::<Vec<_>>()
+                .join(", ")
+        ),
         other => other.to_string(),
     }
 }
