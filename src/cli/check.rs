@@ -57,8 +57,8 @@ pub struct CheckArgs {
     /// Show a progress bar even when stderr is not a terminal.
     #[arg(long)]
     pub progress: bool,
-    /// TOML file with an [input] table of JSON Pointers: where the answer fields lie in
-    /// records of another shape (over the config's [input], key by key).
+    /// TOML file with an `[input]` table of JSON Pointers: where the answer fields lie in
+    /// records of another shape (over the config's `[input]`, key by key).
     #[arg(long, value_name = "FILE")]
     pub input_map: Option<PathBuf>,
     /// A saved index (`plumbline index`) to use instead of reading and indexing the store;

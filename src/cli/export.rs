@@ -32,7 +32,7 @@ pub struct ExportArgs {
     /// refused.
     #[arg(long, value_name = "TARGET")]
     pub out: String,
-    /// The config whose [limits] and [store] apply.
+    /// The config whose `[limits]` and `[store]` apply.
     #[arg(long, value_name = "FILE")]
     pub config: Option<PathBuf>,
     /// No terminal output but errors.

@@ -22,7 +22,7 @@ pub struct IndexArgs {
     /// Where to write the saved index.
     #[arg(long, value_name = "FILE")]
     pub out: PathBuf,
-    /// The config whose [limits] and [store] apply (use the same one with `check`).
+    /// The config whose `[limits]` and `[store]` apply (use the same one with `check`).
     #[arg(long, value_name = "FILE")]
     pub config: Option<PathBuf>,
     /// No terminal output but errors.

@@ -96,7 +96,7 @@ const PROBE: &str = "Dr. Okafor approved 27 days of leave on 4 March 2026. Claim
 45 days (about 6.5 weeks), then close automatically! Refunds of £8.95 take 3–5 working days; \
 e.g. returns-policy.md v2.1 says so. Isn't that what the team's runbooks describe?";
 
-/// Digest of the index of [`PROBE`] as this binary builds it.
+/// Digest of the index of a fixed probe text as this binary builds it.
 pub fn probe_digest() -> String {
     let index = Index::build(&[PROBE]);
     let bytes = rmp_serde::to_vec(&index).unwrap_or_default();

@@ -524,7 +524,7 @@ impl Store {
             h.update(d.sha256.as_bytes());
             h.update(b"\n");
         }
-        problems.sort_by(|a, b| a.path.cmp(&b.path));
+        problems.sort_by(|a, b| problem_order(&a.path).cmp(&problem_order(&b.path)));
         Store {
             form,
             root,
@@ -581,6 +581,17 @@ impl Store {
     /// Total bytes of visible text.
     pub fn visible_bytes(&self) -> usize {
         self.documents.iter().map(|d| d.visible_text().len()).sum()
+    }
+}
+
+/// Problems are listed by path, a trailing `:LINE` (chunk exports) counted as a number so
+/// that line 10 comes after line 9.
+fn problem_order(path: &str) -> (&str, u64, &str) {
+    match path.rsplit_once(':') {
+        Some((head, n)) if !n.is_empty() && n.bytes().all(|b| b.is_ascii_digit()) => {
+            (head, n.parse().unwrap_or(u64::MAX), "")
+        }
+        _ => (path, 0, path),
     }
 }
 

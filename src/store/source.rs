@@ -120,7 +120,9 @@ pub fn redact_args(args: &[String]) -> Vec<String> {
         .collect()
 }
 
-/// A store opened for a run.
+/// A store opened for a run (made once per run, so the size of its variants does not
+/// matter).
+#[allow(clippy::large_enum_variant)]
 pub enum Opened {
     /// Loaded whole, with its index.
     Whole {
@@ -390,5 +392,49 @@ impl LazyStore {
     /// Rows that could not be read.
     pub fn problems(&self) -> &[StoreProblem] {
         &self.problems
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn the_shape_of_the_argument_decides_the_form() {
+        let dir = tempfile::tempdir().unwrap();
+        let db = dir.path().join("kb.bin");
+        rusqlite::Connection::open(&db).unwrap().execute_batch("CREATE TABLE t (x)").unwrap();
+        let jsonl = dir.path().join("kb.JSONL");
+        std::fs::write(&jsonl, "").unwrap();
+        let other = dir.path().join("notes.txt");
+        std::fs::write(&other, "").unwrap();
+        assert_eq!(StoreSpec::parse(Path::new("postgres://u@h/db")).form(), StoreForm::Postgres);
+        assert_eq!(StoreSpec::parse(Path::new("postgresql:///db")).form(), StoreForm::Postgres);
+        assert_eq!(
+            StoreSpec::parse(Path::new("sqlite:no/such.db")),
+            StoreSpec::Sqlite("no/such.db".into())
+        );
+        assert_eq!(StoreSpec::parse(&db), StoreSpec::Sqlite(db.clone()), "by SQLite's header");
+        assert_eq!(StoreSpec::parse(&jsonl), StoreSpec::Chunks(jsonl.clone()));
+        assert_eq!(StoreSpec::parse(Path::new("chunks:x.txt")), StoreSpec::Chunks("x.txt".into()));
+        assert_eq!(StoreSpec::parse(&other), StoreSpec::Folder(other.clone()));
+        assert_eq!(StoreSpec::parse(dir.path()), StoreSpec::Folder(dir.path().to_path_buf()));
+    }
+
+    #[test]
+    fn passwords_leave_the_recorded_command_line() {
+        let args: Vec<String> = [
+            "plumbline",
+            "check",
+            "--store",
+            "postgres://a:pw@h/db",
+            "--store=postgresql://b:pw2@h/db?password=x",
+        ]
+        .map(String::from)
+        .to_vec();
+        let out = redact_args(&args);
+        assert_eq!(out[3], "postgres://a@h/db");
+        assert_eq!(out[4], "--store=postgresql://b@h/db");
+        assert_eq!(out[..3], args[..3]);
     }
 }
