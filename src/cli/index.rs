@@ -40,7 +40,21 @@ pub fn execute(args: &IndexArgs) -> Result<Outcome> {
     let limits = StoreLimits::from(&config.limits);
     let spec = StoreSpec::parse(&args.store);
     let usage = |e: crate::store::StoreError| UsageError(e.to_string());
-    let fingerprint = source::fingerprint(&spec, &config.store, &limits).map_err(usage)?;
+    // The time before anything is read: files written from then on are read again when
+    // the index is checked against the store (see `source::folder_changes`).
+    let saved_at = (
+        crate::run::utc_now(),
+        std::time::SystemTime::now()
+            .duration_since(std::time::UNIX_EPOCH)
+            .map_or(0, |d| d.as_secs() as i64),
+    );
+    let (fingerprint, stamps) = match &spec {
+        StoreSpec::Folder(root) => {
+            let stamps = source::folder_stamps(root).map_err(usage)?;
+            (source::stamps_fingerprint(&stamps), stamps)
+        }
+        _ => (source::fingerprint(&spec, &config.store, &limits).map_err(usage)?, Vec::new()),
+    };
     let Opened::Whole { store, index, .. } =
         source::open(&spec, &config.store, Some(StoreMode::Full), &limits, None).map_err(usage)?
     else {
@@ -52,8 +66,9 @@ pub fn execute(args: &IndexArgs) -> Result<Outcome> {
         &index,
         &spec.label(),
         &fingerprint,
+        &stamps,
         &limits,
-        &crate::run::utc_now(),
+        (&saved_at.0, saved_at.1),
     )
     .map_err(usage)?;
     if !args.quiet {

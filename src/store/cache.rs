@@ -11,8 +11,10 @@
 //!
 //! # Format
 //!
-//! The 16 bytes `plumbline-index\n`; a little-endian `u64` length; a header of that many
-//! bytes; then the body. Header and body are MessagePack (`rmp-serde`) encodings of
+//! The 16 bytes `plumbline-index\n`; a little-endian `u64` length and a header of that
+//! many bytes; a `u64` length and the list of a folder store's files with their digests
+//! and file-system stamps ([`super::source::Stamp`]; empty for other forms); then the
+//! body. Header and body are MessagePack (`rmp-serde`) encodings of
 //! [`Header`] and of the documents and index (a self-describing format, because the
 //! figures of the index are written with tagged and flattened fields). The header is read and checked first,
 //! so a stale file is refused before its body is read. [`FORMAT`] changes whenever the
@@ -27,7 +29,7 @@ use serde::{Deserialize, Serialize};
 use sha2::{Digest, Sha256};
 
 use super::index::Index;
-use super::source::StoreSpec;
+use super::source::{Stamp, StoreSpec};
 use super::{Document, Parts, Store, StoreError, StoreForm, StoreLimits, StoreProblem, hex};
 
 /// The file's first bytes.
@@ -59,6 +61,8 @@ pub struct Header {
     pub limits: (u64, usize, usize),
     /// When it was saved (UTC, RFC 3339).
     pub saved_at: String,
+    /// The same, in seconds since the Unix epoch.
+    pub saved_at_epoch: i64,
 }
 
 #[derive(Serialize)]
@@ -113,14 +117,16 @@ fn bad(path: &Path, message: impl Into<String>) -> StoreError {
 
 /// Writes `store` and `index` to `out`, with the store's `fingerprint`; returns the
 /// header written and the file's size.
+#[allow(clippy::too_many_arguments)]
 pub fn save(
     out: &Path,
     store: &Store,
     index: &Index,
     label: &str,
     fingerprint: &str,
+    stamps: &[Stamp],
     limits: &StoreLimits,
-    saved_at: &str,
+    saved_at: (&str, i64),
 ) -> Result<(Header, u64), StoreError> {
     let header = Header {
         format: FORMAT,
@@ -132,7 +138,8 @@ pub fn save(
         digest: store.digest.clone(),
         documents: store.documents.len(),
         limits: limits_key(limits),
-        saved_at: saved_at.to_owned(),
+        saved_at: saved_at.0.to_owned(),
+        saved_at_epoch: saved_at.1,
     };
     let unreadable = store.unreadable_list();
     let body = BodyRef {
@@ -143,6 +150,7 @@ pub fn save(
         index,
     };
     let head = rmp_serde::to_vec(&header).map_err(|e| bad(out, format!("cannot encode: {e}")))?;
+    let stamps = rmp_serde::to_vec(stamps).map_err(|e| bad(out, format!("cannot encode: {e}")))?;
     let body = rmp_serde::to_vec(&body).map_err(|e| bad(out, format!("cannot encode: {e}")))?;
     let tmp = out.with_extension("idx.partial");
     let write = || -> std::io::Result<()> {
@@ -150,6 +158,8 @@ pub fn save(
         f.write_all(MAGIC)?;
         f.write_all(&(head.len() as u64).to_le_bytes())?;
         f.write_all(&head)?;
+        f.write_all(&(stamps.len() as u64).to_le_bytes())?;
+        f.write_all(&stamps)?;
         f.write_all(&body)?;
         f.into_inner().map_err(|e| e.into_error())?.sync_all()?;
         std::fs::rename(&tmp, out)
@@ -158,12 +168,13 @@ pub fn save(
         let _ = std::fs::remove_file(&tmp);
         bad(out, format!("cannot write: {e}"))
     })?;
-    let size = (MAGIC.len() + 8 + head.len() + body.len()) as u64;
+    let size = (MAGIC.len() + 16 + head.len() + stamps.len() + body.len()) as u64;
     Ok((header, size))
 }
 
-/// Reads only the header of a saved index.
-pub fn read_header(path: &Path) -> Result<(Header, u64, usize), StoreError> {
+/// Reads the header of a saved index, the stamps of its folder's files, and where its
+/// body starts; not the body.
+pub fn read_head(path: &Path) -> Result<(Header, Vec<Stamp>, u64, usize), StoreError> {
     let mut f = std::fs::File::open(path).map_err(|e| bad(path, format!("cannot read: {e}")))?;
     let size = f.metadata().map(|m| m.len()).unwrap_or(0);
     let mut magic = [0u8; 16];
@@ -171,32 +182,41 @@ pub fn read_header(path: &Path) -> Result<(Header, u64, usize), StoreError> {
     if &magic != MAGIC {
         return Err(bad(path, "is not a plumbline index (wrong first bytes)"));
     }
-    let mut len = [0u8; 8];
-    f.read_exact(&mut len).map_err(|_| bad(path, "is a truncated plumbline index"))?;
-    let len = u64::from_le_bytes(len);
-    if len > 1 << 20 {
-        return Err(bad(path, "is a damaged plumbline index (header length)"));
-    }
-    let mut head = vec![0u8; len as usize];
-    f.read_exact(&mut head).map_err(|_| bad(path, "is a truncated plumbline index"))?;
+    let mut section = |limit: u64| -> Result<Vec<u8>, StoreError> {
+        let mut len = [0u8; 8];
+        f.read_exact(&mut len).map_err(|_| bad(path, "is a truncated plumbline index"))?;
+        let len = u64::from_le_bytes(len);
+        if len > limit || len > size {
+            return Err(bad(path, "is a damaged plumbline index (a section length)"));
+        }
+        let mut bytes = vec![0u8; len as usize];
+        f.read_exact(&mut bytes).map_err(|_| bad(path, "is a truncated plumbline index"))?;
+        Ok(bytes)
+    };
+    let head = section(1 << 20)?;
     let header: Header = rmp_serde::from_slice(&head).map_err(|_| {
         bad(
             path,
             "was written in another format by another plumbline; rebuild it with `plumbline index`",
         )
     })?;
-    Ok((header, size, MAGIC.len() + 8 + len as usize))
+    let stamp_bytes = section(u64::MAX)?;
+    let stamps: Vec<Stamp> = rmp_serde::from_slice(&stamp_bytes)
+        .map_err(|_| bad(path, "is a damaged plumbline index (its file list)"))?;
+    let start = MAGIC.len() + 16 + head.len() + stamp_bytes.len();
+    Ok((header, stamps, size, start))
 }
 
-/// Loads a saved index after checking it against the store `spec` names, whose
-/// fingerprint is `current`.
+/// Loads a saved index after checking its header against this binary, the store `spec`
+/// names and `limits`, and the store's current fingerprint, which `current` computes
+/// (given the header and the saved file stamps) once the header has passed.
 pub fn load(
     path: &Path,
     spec: &StoreSpec,
-    current: &str,
     limits: &StoreLimits,
+    current: impl FnOnce(&Header, &[Stamp]) -> Result<String, StoreError>,
 ) -> Result<(Store, Index, CacheInfo), StoreError> {
-    let (header, size, start) = read_header(path)?;
+    let (header, stamps, size, start) = read_head(path)?;
     let rebuild = format!(
         "rebuild it with `plumbline index --store {} --out {}`",
         spec.label(),
@@ -238,15 +258,31 @@ pub fn load(
             format!("was saved with other [limits] settings than this run's: {rebuild}"),
         ));
     }
+    let current = current(&header, &stamps)?;
     if header.fingerprint != current {
+        let what = match current.strip_prefix("changed: ") {
+            Some(files) => {
+                let list: Vec<&str> = files.split(", ").collect();
+                let shown = list.iter().take(5).copied().collect::<Vec<_>>().join(", ");
+                let more = if list.len() > 5 {
+                    format!(" and {} more", list.len() - 5)
+                } else {
+                    String::new()
+                };
+                format!("{shown}{more}")
+            }
+            None => format!(
+                "store fingerprint {} then, {} now",
+                short(&header.fingerprint),
+                short(&current)
+            ),
+        };
         return Err(bad(
             path,
             format!(
-                "does not match the store: {} changed since the index was saved at {} (store fingerprint {} then, {} now): {rebuild}",
+                "does not match the store: {} changed since the index was saved at {} ({what}): {rebuild}",
                 spec.label(),
                 header.saved_at,
-                short(&header.fingerprint),
-                short(current)
             ),
         ));
     }

@@ -147,8 +147,17 @@ pub fn open(
     saved: Option<&Path>,
 ) -> Result<Opened, StoreError> {
     if let Some(path) = saved {
-        let current = fingerprint(spec, settings, limits)?;
-        let (store, index, info) = cache::load(path, spec, &current, limits)?;
+        let (store, index, info) = cache::load(path, spec, limits, |header, stamps| match spec {
+            StoreSpec::Folder(root) => {
+                let changes = folder_changes(root, stamps, header.saved_at_epoch)?;
+                Ok(if changes.is_empty() {
+                    header.fingerprint.clone()
+                } else {
+                    format!("changed: {}", changes.join(", "))
+                })
+            }
+            _ => fingerprint(spec, settings, limits),
+        })?;
         return Ok(Opened::Whole { store, index, cache: Some(info) });
     }
     let store = match spec {
@@ -194,29 +203,7 @@ pub fn fingerprint(
         message: format!("cannot read: {e}"),
     };
     match spec {
-        StoreSpec::Folder(root) => {
-            if !root.is_dir() {
-                return Err(StoreError::Root {
-                    path: root.clone(),
-                    message: "is not a directory".into(),
-                });
-            }
-            let mut lines: Vec<String> = Vec::new();
-            for entry in walkdir::WalkDir::new(root).follow_links(false).sort_by_file_name() {
-                let Ok(entry) = entry else { continue };
-                let rel = super::rel_path(root, entry.path());
-                let is_manifest = rel == "manifest.json";
-                if entry.path_is_symlink() || !entry.file_type().is_file() {
-                    continue;
-                }
-                if super::extract::Format::from_path(entry.path()).is_none() && !is_manifest {
-                    continue;
-                }
-                let bytes = std::fs::read(entry.path()).map_err(|e| root_err(entry.path(), e))?;
-                lines.push(format!("{rel}\0{}\0{}", hex(&Sha256::digest(&bytes)), bytes.len()));
-            }
-            Ok(digest_lines(&lines))
-        }
+        StoreSpec::Folder(root) => Ok(stamps_fingerprint(&folder_stamps(root)?)),
         StoreSpec::Chunks(path) => {
             let mut f = std::fs::File::open(path).map_err(|e| root_err(path, e))?;
             let mut h = Sha256::new();
@@ -254,6 +241,141 @@ pub fn fingerprint(
             Ok(digest_lines(&lines))
         }
     }
+}
+
+/// A file of a folder store (a document or the manifest) as it was when an index was
+/// saved: its digest, and the file-system facts that change whenever it is written.
+#[derive(Debug, Clone, PartialEq, Eq, serde::Serialize, serde::Deserialize)]
+pub struct Stamp {
+    /// Path relative to the root.
+    pub rel: String,
+    /// Size in bytes.
+    pub size: u64,
+    /// Modification time, seconds and nanoseconds.
+    pub mtime: (i64, i64),
+    /// Status-change time, seconds and nanoseconds: set by the system on every write
+    /// or metadata change, and not settable by programs (unlike the modification time).
+    pub ctime: (i64, i64),
+    /// Inode number.
+    pub ino: u64,
+    /// SHA-256 of the content.
+    pub sha256: String,
+}
+
+/// The candidate files of a folder store (what [`Store::load`] would consider, plus the
+/// manifest), with their metadata, in walk order.
+fn folder_files(root: &Path) -> Result<Vec<(String, PathBuf, std::fs::Metadata)>, StoreError> {
+    if !root.is_dir() {
+        return Err(StoreError::Root {
+            path: root.to_path_buf(),
+            message: "is not a directory".into(),
+        });
+    }
+    let mut out = Vec::new();
+    for entry in walkdir::WalkDir::new(root).follow_links(false).sort_by_file_name() {
+        let Ok(entry) = entry else { continue };
+        let rel = super::rel_path(root, entry.path());
+        if entry.path_is_symlink() || !entry.file_type().is_file() {
+            continue;
+        }
+        if super::extract::Format::from_path(entry.path()).is_none() && rel != "manifest.json" {
+            continue;
+        }
+        let meta = std::fs::symlink_metadata(entry.path()).map_err(|e| StoreError::Root {
+            path: entry.path().to_path_buf(),
+            message: format!("cannot read: {e}"),
+        })?;
+        out.push((rel, entry.path().to_path_buf(), meta));
+    }
+    Ok(out)
+}
+
+fn stamp_of(rel: String, meta: &std::fs::Metadata, sha256: String) -> Stamp {
+    use std::os::unix::fs::MetadataExt;
+    Stamp {
+        rel,
+        size: meta.len(),
+        mtime: (meta.mtime(), meta.mtime_nsec()),
+        ctime: (meta.ctime(), meta.ctime_nsec()),
+        ino: meta.ino(),
+        sha256,
+    }
+}
+
+fn hash_file(path: &Path) -> Result<String, StoreError> {
+    let bytes = std::fs::read(path).map_err(|e| StoreError::Root {
+        path: path.to_path_buf(),
+        message: format!("cannot read: {e}"),
+    })?;
+    Ok(hex(&Sha256::digest(&bytes)))
+}
+
+/// Reads and digests every candidate file of a folder store, in parallel.
+pub fn folder_stamps(root: &Path) -> Result<Vec<Stamp>, StoreError> {
+    use rayon::prelude::*;
+    folder_files(root)?
+        .into_par_iter()
+        .map(|(rel, path, meta)| Ok(stamp_of(rel, &meta, hash_file(&path)?)))
+        .collect()
+}
+
+/// The fingerprint of a folder store: the SHA-256 over its files' paths, digests and
+/// sizes (see [`fingerprint`]).
+pub fn stamps_fingerprint(stamps: &[Stamp]) -> String {
+    let lines: Vec<String> =
+        stamps.iter().map(|s| format!("{}\0{}\0{}", s.rel, s.sha256, s.size)).collect();
+    digest_lines(&lines)
+}
+
+/// What changed in a folder store since `saved` was taken at `saved_at` (seconds since
+/// the epoch): files added, removed, or whose content differs. A file whose size, times
+/// and inode are those saved, and whose times are at least two seconds older than the
+/// save, is taken as unchanged without being read; every other file is read and its
+/// digest compared (so a copied or touched store is not refused for nothing). This is
+/// how git decides that a file is clean, racy timestamps included (`racy-git`).
+pub fn folder_changes(
+    root: &Path,
+    saved: &[Stamp],
+    saved_at: i64,
+) -> Result<Vec<String>, StoreError> {
+    use rayon::prelude::*;
+    let by_rel: HashMap<&str, &Stamp> = saved.iter().map(|s| (s.rel.as_str(), s)).collect();
+    let files = folder_files(root)?;
+    let mut changes: Vec<String> = files
+        .par_iter()
+        .map(|(rel, path, meta)| -> Result<Option<String>, StoreError> {
+            let Some(old) = by_rel.get(rel.as_str()) else {
+                return Ok(Some(format!("{rel} (added)")));
+            };
+            let now = stamp_of(rel.clone(), meta, String::new());
+            let racy = old.mtime.0 >= saved_at - 2 || old.ctime.0 >= saved_at - 2;
+            if !racy
+                && now.size == old.size
+                && now.mtime == old.mtime
+                && now.ctime == old.ctime
+                && now.ino == old.ino
+            {
+                return Ok(None);
+            }
+            if now.size != old.size || hash_file(path)? != old.sha256 {
+                return Ok(Some(format!("{rel} (changed)")));
+            }
+            Ok(None)
+        })
+        .collect::<Result<Vec<Option<String>>, StoreError>>()?
+        .into_iter()
+        .flatten()
+        .collect();
+    let present: std::collections::HashSet<&str> =
+        files.iter().map(|(r, _, _)| r.as_str()).collect();
+    changes.extend(
+        saved
+            .iter()
+            .filter(|s| !present.contains(s.rel.as_str()))
+            .map(|s| format!("{} (removed)", s.rel)),
+    );
+    changes.sort();
+    Ok(changes)
 }
 
 fn digest_lines(lines: &[String]) -> String {

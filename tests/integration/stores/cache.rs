@@ -148,3 +148,53 @@ fn walk(dir: &std::path::Path) -> Vec<std::path::PathBuf> {
     }
     out
 }
+
+#[test]
+fn a_touched_file_is_no_change_and_an_edit_with_its_old_time_put_back_is_one() {
+    let dir = tempfile::tempdir().expect("temp");
+    let store = dir.path().join("store");
+    std::fs::create_dir_all(&store).expect("store");
+    let doc = store.join("policy.txt");
+    std::fs::write(&doc, "Refunds take 14 days.\n").expect("doc");
+    std::fs::write(dir.path().join("old-time"), "").expect("reference");
+    // Files written within two seconds of the save are always read again; wait, so that
+    // the check below relies on the file-system stamps.
+    std::thread::sleep(std::time::Duration::from_secs(3));
+    let idx = dir.path().join("s.idx");
+    let (code, err) =
+        run(&["index", "--store", store.to_str().expect("p"), "--out", idx.to_str().expect("p")]);
+    assert_eq!(code, 0, "{err}");
+    let answers = dir.path().join("a.jsonl");
+    write_jsonl(
+        &answers,
+        &[
+            json!({"id": "a", "answer": "Refunds take 14 days [1].", "citations": [{"ref": "1", "doc": "policy.txt"}]}),
+        ],
+    );
+    let args = [
+        "--store",
+        store.to_str().expect("p"),
+        "--answers",
+        answers.to_str().expect("p"),
+        "--index",
+        idx.to_str().expect("p"),
+    ];
+    // Touched: new times, same bytes. Not a change.
+    let touched = std::process::Command::new("touch").arg(&doc).status().expect("touch");
+    assert!(touched.success());
+    let out = check(dir.path(), &args);
+    assert_ne!(out.code, 2, "{}", out.stderr);
+    // The same number of bytes, other words, and the old modification time put back
+    // (`touch -r`): the status-change time still moves, so the file is read and refused.
+    std::fs::write(&doc, "Refunds take 41 days.\n").expect("edit");
+    let reset = std::process::Command::new("touch")
+        .arg("-r")
+        .arg(dir.path().join("old-time"))
+        .arg(&doc)
+        .status()
+        .expect("touch -r");
+    assert!(reset.success());
+    let out = check(dir.path(), &args);
+    assert_eq!(out.code, 2, "{}", out.stderr);
+    assert!(out.stderr.contains("policy.txt (changed)"), "{}", out.stderr);
+}
