@@ -62,12 +62,15 @@ pub struct DocSentences {
     /// Byte ranges (visible text) of the sentences.
     pub ranges: Vec<Range<usize>>,
     /// Token ids of all sentences, concatenated.
+    #[serde(with = "super::cache::raw::u32s")]
     ids: Vec<u32>,
     /// Sentence `i` owns `ids[bounds[i]..bounds[i + 1]]`.
+    #[serde(with = "super::cache::raw::u32s")]
     bounds: Vec<u32>,
     /// Figures of all sentences, concatenated.
     figures: Vec<Figure>,
     /// Sentence `i` owns `figures[figure_bounds[i]..figure_bounds[i + 1]]`.
+    #[serde(with = "super::cache::raw::u32s")]
     figure_bounds: Vec<u32>,
 }
 
@@ -101,8 +104,10 @@ pub struct Index {
     /// Per document, its sentences.
     pub docs: Vec<DocSentences>,
     /// Global sentence id → (document, sentence).
+    #[serde(with = "super::cache::raw::pairs")]
     owners: Vec<(u32, u32)>,
     /// Term → sorted global sentence ids.
+    #[serde(with = "super::cache::raw::postings")]
     postings: IdMap<u32, Vec<u32>>,
 }
 
