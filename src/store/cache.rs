@@ -13,8 +13,8 @@
 //!
 //! The 16 bytes `plumbline-index\n`; a little-endian `u64` length and a header of that
 //! many bytes; a `u64` length and the list of a folder store's files with their digests
-//! and file-system stamps ([`super::source::Stamp`]; empty for other forms); then the
-//! body. Header and body are MessagePack (`rmp-serde`) encodings of
+//! and file-system stamps ([`super::source::Stamp`]; empty for other forms); a `u64`
+//! length and the documents; then the index (the two decode on two threads). Header and body are MessagePack (`rmp-serde`) encodings of
 //! [`Header`] and of the documents and index (a self-describing format, because the
 //! figures of the index are written with tagged and flattened fields). The header is read and checked first,
 //! so a stale file is refused before its body is read. [`FORMAT`] changes whenever the
@@ -66,22 +66,20 @@ pub struct Header {
 }
 
 #[derive(Serialize)]
-struct BodyRef<'a> {
+struct DocsRef<'a> {
     documents: &'a [Document],
     default_access: &'a Option<Vec<String>>,
     problems: &'a [StoreProblem],
     unreadable: &'a [(String, String)],
-    index: &'a Index,
 }
 
-/// Decodes what [`BodyRef`] encodes.
+/// Decodes what [`DocsRef`] encodes.
 #[derive(Deserialize)]
-struct Body {
+struct Docs {
     documents: Vec<Document>,
     default_access: Option<Vec<String>>,
     problems: Vec<StoreProblem>,
     unreadable: Vec<(String, String)>,
-    index: Index,
 }
 
 /// What a run that used a saved index records of it.
@@ -142,16 +140,16 @@ pub fn save(
         saved_at_epoch: saved_at.1,
     };
     let unreadable = store.unreadable_list();
-    let body = BodyRef {
+    let docs = DocsRef {
         documents: &store.documents,
         default_access: &store.default_access,
         problems: &store.problems,
         unreadable: &unreadable,
-        index,
     };
     let head = rmp_serde::to_vec(&header).map_err(|e| bad(out, format!("cannot encode: {e}")))?;
     let stamps = rmp_serde::to_vec(stamps).map_err(|e| bad(out, format!("cannot encode: {e}")))?;
-    let body = rmp_serde::to_vec(&body).map_err(|e| bad(out, format!("cannot encode: {e}")))?;
+    let docs = rmp_serde::to_vec(&docs).map_err(|e| bad(out, format!("cannot encode: {e}")))?;
+    let index = rmp_serde::to_vec(index).map_err(|e| bad(out, format!("cannot encode: {e}")))?;
     let tmp = out.with_extension("idx.partial");
     let write = || -> std::io::Result<()> {
         let mut f = std::io::BufWriter::new(std::fs::File::create(&tmp)?);
@@ -160,7 +158,9 @@ pub fn save(
         f.write_all(&head)?;
         f.write_all(&(stamps.len() as u64).to_le_bytes())?;
         f.write_all(&stamps)?;
-        f.write_all(&body)?;
+        f.write_all(&(docs.len() as u64).to_le_bytes())?;
+        f.write_all(&docs)?;
+        f.write_all(&index)?;
         f.into_inner().map_err(|e| e.into_error())?.sync_all()?;
         std::fs::rename(&tmp, out)
     };
@@ -168,7 +168,7 @@ pub fn save(
         let _ = std::fs::remove_file(&tmp);
         bad(out, format!("cannot write: {e}"))
     })?;
-    let size = (MAGIC.len() + 16 + head.len() + stamps.len() + body.len()) as u64;
+    let size = (MAGIC.len() + 24 + head.len() + stamps.len() + docs.len() + index.len()) as u64;
     Ok((header, size))
 }
 
@@ -287,12 +287,24 @@ pub fn load(
         ));
     }
     let bytes = std::fs::read(path).map_err(|e| bad(path, format!("cannot read: {e}")))?;
-    let body: Body = bytes
-        .get(start..)
-        .and_then(|b| rmp_serde::from_slice(b).ok())
-        .ok_or_else(|| bad(path, format!("is damaged (its body cannot be read): {rebuild}")))?;
+    let damaged = || bad(path, format!("is damaged (its body cannot be read): {rebuild}"));
+    let body = bytes.get(start..).ok_or_else(damaged)?;
+    let docs_len = body
+        .get(..8)
+        .and_then(|b| <[u8; 8]>::try_from(b).ok())
+        .map(u64::from_le_bytes)
+        .and_then(|n| usize::try_from(n).ok())
+        .filter(|&n| n <= body.len() - 8)
+        .ok_or_else(damaged)?;
+    let (docs_bytes, index_bytes) = body[8..].split_at(docs_len);
+    // The two halves decode on two threads.
+    let (docs, index) = rayon::join(
+        || rmp_serde::from_slice::<Docs>(docs_bytes).ok(),
+        || rmp_serde::from_slice::<Index>(index_bytes).ok(),
+    );
+    let (Some(docs), Some(index)) = (docs, index) else { return Err(damaged()) };
     drop(bytes);
-    let Body { documents, default_access, problems, unreadable, index } = body;
+    let Docs { documents, default_access, problems, unreadable } = docs;
     let store = Store::assemble(Parts {
         form: header.form,
         root: std::path::PathBuf::from(spec.label()),
@@ -313,4 +325,163 @@ pub fn load(
 
 fn short(digest: &str) -> &str {
     digest.get(..12).unwrap_or(digest)
+}
+
+/// Serde helpers that write the index's integer arrays as raw little-endian bytes, so that
+/// a saved index decodes with one copy per array instead of one call per number. The
+/// index's fields name them with `#[serde(with = …)]`.
+pub mod raw {
+    use std::hash::BuildHasher;
+
+    use serde::de::{Error, MapAccess, Visitor};
+    use serde::ser::SerializeMap;
+    use serde::{Deserializer, Serializer};
+
+    fn to_bytes(v: &[u32]) -> Vec<u8> {
+        let mut out = Vec::with_capacity(v.len() * 4);
+        for x in v {
+            out.extend_from_slice(&x.to_le_bytes());
+        }
+        out
+    }
+
+    fn from_bytes<E: Error>(b: &[u8]) -> Result<Vec<u32>, E> {
+        if b.len() % 4 != 0 {
+            return Err(E::custom("an array of u32 whose length is not a multiple of 4"));
+        }
+        Ok(b.chunks_exact(4).map(|c| u32::from_le_bytes([c[0], c[1], c[2], c[3]])).collect())
+    }
+
+    struct BytesVisitor;
+
+    impl<'de> Visitor<'de> for BytesVisitor {
+        type Value = Vec<u32>;
+        fn expecting(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+            f.write_str("bytes holding little-endian u32 values")
+        }
+        fn visit_bytes<E: Error>(self, v: &[u8]) -> Result<Vec<u32>, E> {
+            from_bytes(v)
+        }
+        fn visit_borrowed_bytes<E: Error>(self, v: &'de [u8]) -> Result<Vec<u32>, E> {
+            from_bytes(v)
+        }
+        fn visit_byte_buf<E: Error>(self, v: Vec<u8>) -> Result<Vec<u32>, E> {
+            from_bytes(&v)
+        }
+    }
+
+    /// `Vec<u32>` as bytes.
+    pub mod u32s {
+        use super::*;
+
+        /// Writes the values as bytes.
+        pub fn serialize<S: Serializer>(v: &[u32], s: S) -> Result<S::Ok, S::Error> {
+            s.serialize_bytes(&to_bytes(v))
+        }
+
+        /// Reads them back.
+        pub fn deserialize<'de, D: Deserializer<'de>>(d: D) -> Result<Vec<u32>, D::Error> {
+            d.deserialize_bytes(BytesVisitor)
+        }
+    }
+
+    /// `Vec<(u32, u32)>` as bytes (each pair as two values).
+    pub mod pairs {
+        use super::*;
+
+        /// Writes the pairs as bytes.
+        pub fn serialize<S: Serializer>(v: &[(u32, u32)], s: S) -> Result<S::Ok, S::Error> {
+            let flat: Vec<u32> = v.iter().flat_map(|(a, b)| [*a, *b]).collect();
+            s.serialize_bytes(&to_bytes(&flat))
+        }
+
+        /// Reads them back.
+        pub fn deserialize<'de, D: Deserializer<'de>>(d: D) -> Result<Vec<(u32, u32)>, D::Error> {
+            let flat = d.deserialize_bytes(BytesVisitor)?;
+            if flat.len() % 2 != 0 {
+                return Err(D::Error::custom("an odd number of values for pairs"));
+            }
+            Ok(flat.chunks_exact(2).map(|c| (c[0], c[1])).collect())
+        }
+    }
+
+    /// A map from `u32` to `Vec<u32>`, each list as bytes.
+    pub mod postings {
+        use std::collections::HashMap;
+
+        use super::*;
+
+        struct Bytes<'a>(&'a [u32]);
+
+        impl serde::Serialize for Bytes<'_> {
+            fn serialize<S: Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
+                s.serialize_bytes(&to_bytes(self.0))
+            }
+        }
+
+        struct List(Vec<u32>);
+
+        impl<'de> serde::Deserialize<'de> for List {
+            fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+                d.deserialize_bytes(BytesVisitor).map(List)
+            }
+        }
+
+        /// Writes the map, its lists as bytes.
+        pub fn serialize<S: Serializer, H>(
+            m: &HashMap<u32, Vec<u32>, H>,
+            s: S,
+        ) -> Result<S::Ok, S::Error> {
+            let mut map = s.serialize_map(Some(m.len()))?;
+            for (k, v) in m {
+                map.serialize_entry(k, &Bytes(v))?;
+            }
+            map.end()
+        }
+
+        /// Reads it back.
+        pub fn deserialize<'de, D: Deserializer<'de>, H: BuildHasher + Default>(
+            d: D,
+        ) -> Result<HashMap<u32, Vec<u32>, H>, D::Error> {
+            struct V<H>(std::marker::PhantomData<H>);
+            impl<'de, H: BuildHasher + Default> Visitor<'de> for V<H> {
+                type Value = HashMap<u32, Vec<u32>, H>;
+                fn expecting(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+                    f.write_str("a map of u32 to byte arrays")
+                }
+                fn visit_map<A: MapAccess<'de>>(self, mut a: A) -> Result<Self::Value, A::Error> {
+                    let mut m =
+                        HashMap::with_capacity_and_hasher(a.size_hint().unwrap_or(0), H::default());
+                    while let Some((k, List(v))) = a.next_entry::<u32, List>()? {
+                        m.insert(k, v);
+                    }
+                    Ok(m)
+                }
+            }
+            d.deserialize_map(V(std::marker::PhantomData))
+        }
+    }
+
+    #[cfg(test)]
+    mod tests {
+        #[test]
+        fn arrays_round_trip_through_messagepack() {
+            #[derive(serde::Serialize, serde::Deserialize, PartialEq, Debug)]
+            struct T {
+                #[serde(with = "super::u32s")]
+                a: Vec<u32>,
+                #[serde(with = "super::pairs")]
+                p: Vec<(u32, u32)>,
+                #[serde(with = "super::postings")]
+                m: std::collections::HashMap<u32, Vec<u32>>,
+            }
+            let t = T {
+                a: vec![0, 1, u32::MAX, 70_000],
+                p: vec![(1, 2), (u32::MAX, 0)],
+                m: [(5, vec![1, 2, 3]), (9, vec![])].into_iter().collect(),
+            };
+            let bytes = rmp_serde::to_vec(&t).unwrap();
+            assert_eq!(rmp_serde::from_slice::<T>(&bytes).unwrap(), t);
+        }
+    }
 }

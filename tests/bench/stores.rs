@@ -300,9 +300,9 @@ fn main() {
         }
     }
 
-    // The saved index of the folder, saved as `plumbline index` does. Its time is put a
-    // minute back, and the files are left alone for three seconds first, so that no file
-    // counts as written during the save (those are read again at every check).
+    // The saved index of the folder, saved as `plumbline index` does. The files are left
+    // alone for three seconds first, so that none counts as written around the save
+    // (those are read again at every check).
     let spec = StoreSpec::Folder(folder);
     let StoreSpec::Folder(root) = &spec else { unreachable!() };
     let idx = dir.path().join("store.idx");
@@ -310,8 +310,7 @@ fn main() {
     std::thread::sleep(std::time::Duration::from_secs(3));
     let saved_at = std::time::SystemTime::now()
         .duration_since(std::time::UNIX_EPOCH)
-        .map_or(0, |d| d.as_secs() as i64)
-        - 60;
+        .map_or(0, |d| d.as_secs() as i64);
     let t = Instant::now();
     let stamps = source::folder_stamps(root).expect("stamps");
     let (store, index, _) = pool.install(|| load(&spec, &settings, &limits));
