@@ -68,6 +68,7 @@ pub struct DocSentences {
     #[serde(with = "super::cache::raw::u32s")]
     bounds: Vec<u32>,
     /// Figures of all sentences, concatenated.
+    #[serde(with = "super::cache::raw::figures")]
     figures: Vec<Figure>,
     /// Sentence `i` owns `figures[figure_bounds[i]..figure_bounds[i + 1]]`.
     #[serde(with = "super::cache::raw::u32s")]
