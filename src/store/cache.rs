@@ -214,7 +214,7 @@ pub fn load(
     path: &Path,
     spec: &StoreSpec,
     limits: &StoreLimits,
-    current: impl FnOnce(&Header, &[Stamp]) -> Result<String, StoreError>,
+    current: impl FnOnce(&Header, &[Stamp]) -> Result<String, StoreError> + Send,
 ) -> Result<(Store, Index, CacheInfo), StoreError> {
     let (header, stamps, size, start) = read_head(path)?;
     let rebuild = format!(
@@ -258,7 +258,35 @@ pub fn load(
             format!("was saved with other [limits] settings than this run's: {rebuild}"),
         ));
     }
-    let current = current(&header, &stamps)?;
+    // The store is checked while the body is read and decoded; a mismatch discards it.
+    let rebuild_ref = &rebuild;
+    let (current, body) = rayon::join(
+        || current(&header, &stamps),
+        || -> Result<(Docs, Index), StoreError> {
+            let bytes = std::fs::read(path).map_err(|e| bad(path, format!("cannot read: {e}")))?;
+            let damaged =
+                || bad(path, format!("is damaged (its body cannot be read): {rebuild_ref}"));
+            let body = bytes.get(start..).ok_or_else(damaged)?;
+            let docs_len = body
+                .get(..8)
+                .and_then(|b| <[u8; 8]>::try_from(b).ok())
+                .map(u64::from_le_bytes)
+                .and_then(|n| usize::try_from(n).ok())
+                .filter(|&n| n <= body.len() - 8)
+                .ok_or_else(damaged)?;
+            let (docs_bytes, index_bytes) = body[8..].split_at(docs_len);
+            // The two halves decode on two threads.
+            let (docs, index) = rayon::join(
+                || rmp_serde::from_slice::<Docs>(docs_bytes).ok(),
+                || rmp_serde::from_slice::<Index>(index_bytes).ok(),
+            );
+            match (docs, index) {
+                (Some(d), Some(i)) => Ok((d, i)),
+                _ => Err(damaged()),
+            }
+        },
+    );
+    let current = current?;
     if header.fingerprint != current {
         let what = match current.strip_prefix("changed: ") {
             Some(files) => {
@@ -286,24 +314,7 @@ pub fn load(
             ),
         ));
     }
-    let bytes = std::fs::read(path).map_err(|e| bad(path, format!("cannot read: {e}")))?;
-    let damaged = || bad(path, format!("is damaged (its body cannot be read): {rebuild}"));
-    let body = bytes.get(start..).ok_or_else(damaged)?;
-    let docs_len = body
-        .get(..8)
-        .and_then(|b| <[u8; 8]>::try_from(b).ok())
-        .map(u64::from_le_bytes)
-        .and_then(|n| usize::try_from(n).ok())
-        .filter(|&n| n <= body.len() - 8)
-        .ok_or_else(damaged)?;
-    let (docs_bytes, index_bytes) = body[8..].split_at(docs_len);
-    // The two halves decode on two threads.
-    let (docs, index) = rayon::join(
-        || rmp_serde::from_slice::<Docs>(docs_bytes).ok(),
-        || rmp_serde::from_slice::<Index>(index_bytes).ok(),
-    );
-    let (Some(docs), Some(index)) = (docs, index) else { return Err(damaged()) };
-    drop(bytes);
+    let (docs, index) = body?;
     let Docs { documents, default_access, problems, unreadable } = docs;
     let store = Store::assemble(Parts {
         form: header.form,
@@ -462,8 +473,74 @@ pub mod raw {
         }
     }
 
+    /// Figures as plain tuples `(kind, currency, value, unit, start, end)`: their own
+    /// serialisation (for the findings) flattens a tagged kind, which decodes slowly.
+    pub mod figures {
+        use serde::{Deserialize, Serialize};
+
+        use crate::text::numbers::{Figure, FigureKind};
+
+        type Row = (u8, Option<String>, String, Option<String>, u64, u64);
+
+        fn row(f: &Figure) -> Row {
+            let (k, cur) = match &f.kind {
+                FigureKind::Number => (0, None),
+                FigureKind::Money(c) => (1, Some(c.clone())),
+                FigureKind::Percent => (2, None),
+                FigureKind::Time => (3, None),
+                FigureKind::Date => (4, None),
+                FigureKind::Version => (5, None),
+            };
+            (k, cur, f.value.clone(), f.unit.clone(), f.start as u64, f.end as u64)
+        }
+
+        /// Writes the figures as tuples.
+        pub fn serialize<S: serde::Serializer>(v: &[Figure], s: S) -> Result<S::Ok, S::Error> {
+            v.iter().map(row).collect::<Vec<Row>>().serialize(s)
+        }
+
+        /// Reads them back.
+        pub fn deserialize<'de, D: serde::Deserializer<'de>>(
+            d: D,
+        ) -> Result<Vec<Figure>, D::Error> {
+            use serde::de::Error;
+            let rows = Vec::<Row>::deserialize(d)?;
+            rows.into_iter()
+                .map(|(k, cur, value, unit, start, end)| {
+                    let kind = match (k, cur) {
+                        (0, _) => FigureKind::Number,
+                        (1, Some(c)) => FigureKind::Money(c),
+                        (2, _) => FigureKind::Percent,
+                        (3, _) => FigureKind::Time,
+                        (4, _) => FigureKind::Date,
+                        (5, _) => FigureKind::Version,
+                        _ => return Err(D::Error::custom("an unknown kind of figure")),
+                    };
+                    Ok(Figure { kind, value, unit, start: start as usize, end: end as usize })
+                })
+                .collect()
+        }
+    }
+
     #[cfg(test)]
     mod tests {
+        #[test]
+        fn figures_round_trip() {
+            #[derive(serde::Serialize, serde::Deserialize, PartialEq, Debug)]
+            struct T {
+                #[serde(with = "super::figures")]
+                f: Vec<crate::text::numbers::Figure>,
+            }
+            let t = T {
+                f: crate::text::numbers::find_figures(
+                    "£8.95 by 4 March 2026, 45 days, 12%, 09:30 and v15.4.2",
+                ),
+            };
+            assert!(t.f.len() >= 5, "{:?}", t.f);
+            let bytes = rmp_serde::to_vec(&t).unwrap();
+            assert_eq!(rmp_serde::from_slice::<T>(&bytes).unwrap(), t);
+        }
+
         #[test]
         fn arrays_round_trip_through_messagepack() {
             #[derive(serde::Serialize, serde::Deserialize, PartialEq, Debug)]
