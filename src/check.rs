@@ -186,6 +186,8 @@ fn evidence(ctx: &Context<'_>, loc: &Located, redact: bool) -> Evidence {
             score: round6(loc.m.score),
             matched: Vec::new(),
             access,
+            page: None,
+            page_end: None,
         };
     }
     let text = d.visible_text()[loc.visible.clone()].to_owned();
@@ -204,6 +206,8 @@ fn evidence(ctx: &Context<'_>, loc: &Located, redact: bool) -> Evidence {
         score: round6(loc.m.score),
         matched,
         access,
+        page: None,
+        page_end: None,
     }
 }
 
@@ -442,12 +446,14 @@ pub fn check_answer(ctx: &Context<'_>, answer: &Answer) -> Checked {
             joined.iter().map(|(ci, loc)| evidence(ctx, loc, redact_cited(*ci))).collect();
         let mut cited_ev = None;
 
-        // Search the whole store for sentences the citations do not carry. A window
+        // Search the whole store for sentences the citations do not carry (not possible
+        // when only the cited documents were read: `Store::searchable`). A window
         // elsewhere must beat the cited one by the margin, and no score exceeds 1: when
         // the cited window scores above 1 − margin, nothing can, and the search is skipped.
         let cited_score = best.as_ref().map_or(0.0, |(_, l)| l.m.score);
         let margin = ctx.config.support.misattribution_margin;
-        if !claim.no_claim
+        if ctx.store.searchable
+            && !claim.no_claim
             && assessment.verdict != Verdict::Supported
             && cited_score + margin <= 1.0
         {

@@ -2,10 +2,11 @@
 //!
 //! [`resolve`] turns one citation of an answer into a passage (a visible-text range and
 //! the file-byte range it comes from) and exactly one status, checked in this order:
-//! `dead` (no such document, or a path outside the store — decided by
+//! `dead` (no such document, or a path outside the store, or a document that could not
+//! be read — decided by
 //! [`crate::store::Store::resolve_position`], which never touches the filesystem),
 //! `bad_locator` (offsets out of range, off a character boundary, reversed, markup only;
-//! or an unknown chunk), `forbidden`, `principal_unknown`, `access_unknown` (the
+//! or an unknown chunk or page), `forbidden`, `principal_unknown`, `access_unknown` (the
 //! entitlement of the asking user, [`crate::access::decide`]), `stale` (the document's
 //! SHA-256 differs from the one the assistant saw), `quote_mismatch` (the quote's words do
 //! not occur, in order, among the passage's words: white space, punctuation, case and
@@ -18,7 +19,7 @@ use std::ops::Range;
 use crate::access::{self, Entitlement};
 use crate::answers::{Citation, Locator};
 use crate::findings::CitationStatus;
-use crate::store::{Document, Store};
+use crate::store::{DeadReason, Document, Store};
 use crate::text::tokens::unicode_words;
 
 /// A citation resolved against the store.
@@ -62,6 +63,49 @@ fn contains_run(hay: &[String], needle: &[String]) -> bool {
     needle.is_empty() || hay.windows(needle.len()).any(|w| w == needle)
 }
 
+/// The chunk a citation of a chunk group (`doc` names the document the chunks were cut
+/// from) means: the one its `chunk` names, or the only one; otherwise why not.
+fn group_member<'a>(
+    store: &'a Store,
+    group: &str,
+    locator: &Locator,
+) -> Result<(usize, &'a Document), String> {
+    let members = store.group(group).unwrap_or(&[]);
+    let names = || {
+        let ids: Vec<&str> = members.iter().map(|&i| store.documents[i].id.as_str()).collect();
+        let shown = ids.iter().take(8).copied().collect::<Vec<_>>().join(", ");
+        if ids.len() > 8 { format!("{shown}, … ({} in all)", ids.len()) } else { shown }
+    };
+    match locator {
+        Locator::Chunk(id) => members
+            .iter()
+            .find(|&&i| store.documents[i].id == *id)
+            .map(|&i| (i, &store.documents[i]))
+            .ok_or_else(|| format!("no chunk \"{id}\" of \"{group}\"; its chunks are {}", names())),
+        Locator::Whole if members.len() == 1 => Ok((members[0], &store.documents[members[0]])),
+        _ => Err(format!(
+            "\"{group}\" is stored as {} chunks ({}); offsets and pages count within one chunk, so cite the chunk: its id as doc, or chunk with this doc",
+            members.len(),
+            names()
+        )),
+    }
+}
+
+/// The byte range of page `n` of a PDF document.
+fn page_range(doc: &Document, n: u64) -> Result<Range<usize>, String> {
+    if doc.pages.is_empty() {
+        return Err(format!("names page {n}, but the document is not a PDF and has no pages"));
+    }
+    let i = usize::try_from(n).unwrap_or(usize::MAX).saturating_sub(1);
+    match doc.pages.get(i) {
+        None => Err(format!("names page {n}; the document has {} pages", doc.pages.len())),
+        Some(p) if p.is_empty() => {
+            Err(format!("page {n} has no text layer (an image); nothing on it can be checked"))
+        }
+        Some(p) => Ok(p.clone()),
+    }
+}
+
 /// Resolves one citation for a user with `groups` (see the module documentation).
 pub fn resolve<'a>(store: &'a Store, c: &Citation, groups: Option<&[String]>) -> Resolved<'a> {
     let mut r = Resolved {
@@ -73,8 +117,18 @@ pub fn resolve<'a>(store: &'a Store, c: &Citation, groups: Option<&[String]>) ->
         detail: None,
         entitlement: Entitlement::AccessUnknown,
     };
-    let (pos, doc) = match store.resolve_position(&c.doc) {
-        Ok(found) => found,
+    let (pos, doc, locator) = match store.resolve_position(&c.doc) {
+        Ok((pos, doc)) => (pos, doc, &c.locator),
+        Err(DeadReason::NotFound) if store.group(&c.doc).is_some() => {
+            match group_member(store, &c.doc, &c.locator) {
+                Ok((pos, doc)) => (pos, doc, &Locator::Whole),
+                Err(detail) => {
+                    r.status = CitationStatus::BadLocator;
+                    r.detail = Some(detail);
+                    return r;
+                }
+            }
+        }
         Err(reason) => {
             r.status = CitationStatus::Dead;
             r.detail = Some(reason.to_string());
@@ -85,8 +139,9 @@ pub fn resolve<'a>(store: &'a Store, c: &Citation, groups: Option<&[String]>) ->
     r.document = Some(doc);
     let raw = doc.raw();
     let size = raw.len();
-    let range = match &c.locator {
+    let range = match locator {
         Locator::Whole => Ok(0..size),
+        Locator::Page(n) => page_range(doc, *n),
         Locator::Range { start, end } => {
             let (s, e) = (
                 usize::try_from(*start).unwrap_or(usize::MAX),

@@ -99,6 +99,66 @@ pub struct Config {
     pub support: SupportSettings,
     /// Approved-answer regression thresholds.
     pub regression: RegressionSettings,
+    /// How a database store is read (`[store]`; absent from the findings when default).
+    #[serde(skip_serializing_if = "StoreSettings::is_default")]
+    pub store: StoreSettings,
+    /// Where the answer fields lie in records of another shape (`[input]`; absent from
+    /// the findings when empty). See [`crate::answers::mapping`].
+    #[serde(skip_serializing_if = "crate::answers::mapping::FieldMap::is_empty")]
+    pub input: crate::answers::mapping::FieldMap,
+}
+
+/// `[store]`: how a SQLite or PostgreSQL store is read (see [`crate::store::sql`]).
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(default, deny_unknown_fields)]
+pub struct StoreSettings {
+    /// The SQL query whose rows are the documents (default
+    /// [`crate::store::sql::DEFAULT_QUERY`]).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub query: Option<String>,
+    /// `auto`, `full` or `lazy`.
+    pub mode: StoreMode,
+    /// In `auto` mode, the most rows read whole; above it the store is read lazily.
+    pub full_max_rows: u64,
+    /// Most ids one lookup of a lazy run asks for.
+    pub batch: usize,
+}
+
+impl Default for StoreSettings {
+    fn default() -> Self {
+        StoreSettings { query: None, mode: StoreMode::Auto, full_max_rows: 200_000, batch: 500 }
+    }
+}
+
+impl StoreSettings {
+    /// Whether every key has its default.
+    pub fn is_default(&self) -> bool {
+        *self == StoreSettings::default()
+    }
+}
+
+/// Whether a database store is read whole or only where the answers cite it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "lowercase")]
+pub enum StoreMode {
+    /// Whole up to `full_max_rows` rows, lazily above.
+    Auto,
+    /// Always the whole result.
+    Full,
+    /// Only the cited rows; no store-wide search.
+    Lazy,
+}
+
+impl std::str::FromStr for StoreMode {
+    type Err = String;
+    fn from_str(s: &str) -> Result<Self, Self::Err> {
+        match s {
+            "auto" => Ok(StoreMode::Auto),
+            "full" => Ok(StoreMode::Full),
+            "lazy" => Ok(StoreMode::Lazy),
+            _ => Err(format!("{s:?} is not a store mode; use auto, full or lazy")),
+        }
+    }
 }
 
 /// `[regression]`: the least agreement an answer must keep with its `approved_answer`.
@@ -403,6 +463,15 @@ impl Config {
         fraction("support.restricted_match", s.restricted_match)?;
         if s.window_sentences == 0 {
             return bad("support.window_sentences", "must be at least 1".into());
+        }
+        if self.store.batch == 0 {
+            return bad("store.batch", "must be at least 1".into());
+        }
+        if self.store.query.as_deref().is_some_and(|q| q.trim().is_empty()) {
+            return bad("store.query", "is empty".into());
+        }
+        if let Err(e) = self.input.validate() {
+            return bad(&e.key, e.message);
         }
         let r = &self.regression;
         if let Some(v) = r.min_rouge_l {

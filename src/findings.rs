@@ -17,7 +17,10 @@
 //!   "merged_from"?: [{"path", "sha256", "generated_at", "shard"?}],   (merge only)
 //!   "redact_restricted"?: true,                   (--redact-restricted only)
 //!   "inputs": {"answers": {"path", "size", "sha256"}, "principals"?, "config"?, "accept"?,
-//!              "store": {"path", "documents", "digest", "problems": [{"path","field"?,"message"}]}},
+//!              "store": {"path", "documents", "digest", "problems": [{"path","field"?,"message"}],
+//!                        "form"?, "read"?, "searched"?, "notes"?, "index"?: {"path", "size",
+//!                        "saved_at", "fingerprint"}},
+//!              "input_map"?},
 //!   "config": { effective settings, see config.rs },
 //!   "summary": Summary,
 //!   "answers": [AnswerFindings],
@@ -36,7 +39,8 @@
 //! sentence), `figures` (figures of the sentence absent from the evidence),
 //! `changed_terms`, and `cited_evidence` where `evidence` names another document
 //! (`misattributed`, `restricted_match`). Evidence carries the `access` of its document
-//! where known.
+//! where known, and for a PDF the `page` it starts on (and `page_end` where it ends on
+//! another).
 //!
 //! `CitationFindings`: `ref`, `doc`, `status`, `detail`, the resolved passage, and the
 //! cited document's `access` where known.
@@ -230,6 +234,12 @@ pub struct Evidence {
     /// default; absent when unknown), so that a reader can see whom it was meant for.
     #[serde(skip_serializing_if = "Option::is_none", default)]
     pub access: Option<Vec<String>>,
+    /// For a PDF, the 1-based page the evidence starts on.
+    #[serde(skip_serializing_if = "Option::is_none", default)]
+    pub page: Option<u32>,
+    /// For a PDF, the page it ends on, where that is another page.
+    #[serde(skip_serializing_if = "Option::is_none", default)]
+    pub page_end: Option<u32>,
 }
 
 /// A content word that stands where the evidence has another.
@@ -401,7 +411,7 @@ pub struct StoreProblemRecord {
 }
 
 /// The store as recorded in the run record.
-#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+#[derive(Debug, Clone, PartialEq, Default, Serialize, Deserialize)]
 pub struct StoreRecord {
     /// Path as given.
     pub path: String,
@@ -411,6 +421,36 @@ pub struct StoreRecord {
     pub digest: String,
     /// Entries that were skipped, and why.
     pub problems: Vec<StoreProblemRecord>,
+    /// Where the store is not a folder: `chunks`, `sqlite` or `postgres`.
+    #[serde(skip_serializing_if = "Option::is_none", default)]
+    pub form: Option<String>,
+    /// `lazy` where only the cited rows of a database were read; absent when the whole
+    /// store was.
+    #[serde(skip_serializing_if = "Option::is_none", default)]
+    pub read: Option<String>,
+    /// False where the store-wide search (`misattributed`, `restricted_match`) could not
+    /// run; absent when it ran.
+    #[serde(skip_serializing_if = "Option::is_none", default)]
+    pub searched: Option<bool>,
+    /// What a reader of the findings must know about how the store was read.
+    #[serde(skip_serializing_if = "Vec::is_empty", default)]
+    pub notes: Vec<String>,
+    /// The saved index the run used instead of reading the store (`check --index`).
+    #[serde(skip_serializing_if = "Option::is_none", default)]
+    pub index: Option<SavedIndexRecord>,
+}
+
+/// A saved index as recorded in the run record.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
+pub struct SavedIndexRecord {
+    /// Path as given.
+    pub path: String,
+    /// Size in bytes.
+    pub size: u64,
+    /// When it was saved.
+    pub saved_at: String,
+    /// The store fingerprint it was saved with, which the run checked against the store.
+    pub fingerprint: String,
 }
 
 /// Every input of the run.
@@ -426,6 +466,9 @@ pub struct Inputs {
     pub accept: Option<InputFile>,
     /// The store.
     pub store: StoreRecord,
+    /// The field map file (`--input-map`), where one was given.
+    #[serde(skip_serializing_if = "Option::is_none", default)]
+    pub input_map: Option<InputFile>,
 }
 
 /// A line of the answers file that could not be read as an answer, or an answer whose

@@ -27,21 +27,27 @@ use indicatif::{ProgressBar, ProgressDrawTarget, ProgressStyle};
 use rayon::prelude::*;
 use sha2::{Digest, Sha256};
 
+use std::sync::{Arc, Mutex};
+
 use crate::access::{self, Principals};
+use crate::answers::mapping::FieldMap;
 use crate::answers::{AnswerReader, ReaderLimits, json_quote};
 use crate::check::{Checked, Context, check_answer};
 use crate::cli::{Outcome, UsageError};
-use crate::config::Config;
+use crate::config::{Config, StoreMode};
 use crate::decisions::{self, Decision};
 use crate::findings::{
     AnswerFindings, DecisionRecord, Decisions, Flag, GateResult, InputFile, Inputs, RejectedLine,
-    Report, ShardRecord, StoreProblemRecord, StoreRecord, Summary, Tool, Verdict, round6,
+    Report, SavedIndexRecord, ShardRecord, StoreProblemRecord, StoreRecord, Summary, Tool, Verdict,
+    round6,
 };
 use crate::report;
 use crate::report::spool::Spool;
 pub use crate::shard::Shard;
+use crate::store::cache::CacheInfo;
 use crate::store::index::Index;
-use crate::store::{Store, StoreLimits};
+use crate::store::source::{self, LazyStore, Opened, StoreSpec};
+use crate::store::{Store, StoreForm, StoreLimits};
 
 /// The input paths and switches of a run.
 #[derive(Debug, Clone)]
@@ -62,6 +68,17 @@ pub struct RunInputs {
     pub redact_restricted: bool,
     /// The command line, for the run record.
     pub command: Vec<String>,
+}
+
+/// Inputs beyond SPEC.md's (README, "Beyond the contract: other inputs").
+#[derive(Debug, Clone, Default)]
+pub struct Extras {
+    /// A field map file (`--input-map`): an `[input]` table over the config's.
+    pub input_map: Option<PathBuf>,
+    /// A saved index to use instead of reading the store (`--index`).
+    pub index: Option<PathBuf>,
+    /// How to read a database store (`--store-mode`), over `store.mode`.
+    pub store_mode: Option<StoreMode>,
 }
 
 /// Where outputs go.
@@ -167,6 +184,16 @@ pub struct Loaded {
     pub decisions: (Vec<Decision>, Vec<crate::answers::Rejected>),
     /// Seconds spent loading the store and building the index.
     pub store_seconds: f64,
+    /// A database read batch by batch (then `store` and `index` are empty).
+    pub lazy: Option<Mutex<LazyStore>>,
+    /// The store as the run record shows it (a connection string without password).
+    pub store_label: String,
+    /// The saved index used, if any.
+    pub cache: Option<CacheInfo>,
+    /// The effective field map (empty: records in the answers format).
+    pub map: Arc<FieldMap>,
+    /// The `--input-map` file.
+    pub input_map: Option<InputFile>,
 }
 
 impl Loaded {
@@ -185,15 +212,70 @@ impl Loaded {
 
 /// Loads config, store, index, principals and decisions; any failure is a usage error.
 pub fn load(inputs: &RunInputs) -> Result<Loaded> {
-    let config = match &inputs.config {
+    load_with(inputs, &Extras::default())
+}
+
+/// Reads an `--input-map` file: TOML holding an `[input]` table, as in the config.
+pub fn load_input_map(path: &Path) -> Result<FieldMap> {
+    #[derive(serde::Deserialize)]
+    #[serde(deny_unknown_fields)]
+    struct File {
+        #[serde(default)]
+        input: FieldMap,
+    }
+    let text = std::fs::read_to_string(path)
+        .map_err(|e| UsageError(format!("{}: cannot read the input map: {e}", path.display())))?;
+    let file: File = toml::from_str(&text)
+        .map_err(|e| UsageError(format!("{}: {}", path.display(), e.message().trim_end())))?;
+    file.input
+        .validate()
+        .map_err(|b| UsageError(format!("{}: {}: {}", path.display(), b.key, b.message)))?;
+    if file.input.is_empty() {
+        return Err(UsageError(format!(
+            "{}: maps no field; it needs an [input] table",
+            path.display()
+        ))
+        .into());
+    }
+    Ok(file.input)
+}
+
+/// [`load`] with the inputs beyond SPEC.md's.
+pub fn load_with(inputs: &RunInputs, extras: &Extras) -> Result<Loaded> {
+    let mut config = match &inputs.config {
         Some(path) => Config::load(path).map_err(|e| UsageError(e.to_string()))?,
         None => Config::default(),
     };
+    let input_map = match &extras.input_map {
+        Some(path) => {
+            let file_map = load_input_map(path)?;
+            config.input = file_map.over(std::mem::take(&mut config.input));
+            Some(file_record(path)?)
+        }
+        None => None,
+    };
     let t0 = Instant::now();
     let limits = StoreLimits::from(&config.limits);
-    let store = Store::load(&inputs.store, &limits).map_err(|e| UsageError(e.to_string()))?;
-    let texts: Vec<&str> = store.documents.iter().map(|d| d.visible_text()).collect();
-    let index = Index::build(&texts);
+    let spec = StoreSpec::parse(&inputs.store);
+    let store_label = spec.label();
+    let opened =
+        source::open(&spec, &config.store, extras.store_mode, &limits, extras.index.as_deref())
+            .map_err(|e| UsageError(e.to_string()))?;
+    let (store, index, cache, lazy) = match opened {
+        Opened::Whole { store, index, cache } => (store, index, cache, None),
+        Opened::Lazy(l) => {
+            let empty = Store::assemble(crate::store::Parts {
+                form: l.form(),
+                root: PathBuf::from(l.label()),
+                documents: Vec::new(),
+                default_access: None,
+                problems: Vec::new(),
+                unreadable: Vec::new(),
+                max_id_bytes: limits.max_id_bytes,
+            });
+            (empty, Index::default(), None, Some(Mutex::new(l)))
+        }
+    };
     let store_seconds = t0.elapsed().as_secs_f64();
     let principals = match &inputs.principals {
         Some(p) => Some(access::load_principals(p).map_err(|e| UsageError(e.to_string()))?),
@@ -203,7 +285,20 @@ pub fn load(inputs: &RunInputs) -> Result<Loaded> {
         Some(p) => decisions::load_decisions(p).map_err(|e| UsageError(e.to_string()))?,
         None => (Vec::new(), Vec::new()),
     };
-    Ok(Loaded { config, store, index, principals, decisions, store_seconds })
+    let map = Arc::new(config.input.clone());
+    Ok(Loaded {
+        config,
+        store,
+        index,
+        principals,
+        decisions,
+        store_seconds,
+        lazy,
+        store_label,
+        cache,
+        map,
+        input_map,
+    })
 }
 
 /// The summary's counts, gathered one answer and one rejected line at a time, so that a
@@ -487,7 +582,8 @@ pub fn read_and_check(
     let lines_read;
     {
         let mut reader =
-            AnswerReader::with_limits(BufReader::with_capacity(1 << 16, &mut hashing), limits);
+            AnswerReader::with_limits(BufReader::with_capacity(1 << 16, &mut hashing), limits)
+                .with_map(Arc::clone(&loaded.map));
         loop {
             if is_interrupted() {
                 progress.abandon();
@@ -509,6 +605,18 @@ pub fn read_and_check(
                     Err(_) => other_shards += 1,
                 }
             }
+            // A database read lazily: a store of the rows this batch cites.
+            let batch_store: Option<(Store, Index)> = match &loaded.lazy {
+                Some(lazy) if !todo.is_empty() => {
+                    let mut lazy =
+                        lazy.lock().map_err(|_| anyhow::anyhow!("store reader failed"))?;
+                    Some(lazy.for_answers(&todo).map_err(|e| UsageError(e.to_string()))?)
+                }
+                _ => None,
+            };
+            let batch_ctx =
+                batch_store.as_ref().map(|(store, index)| Context { store, index, ..*ctx });
+            let ctx = batch_ctx.as_ref().unwrap_or(ctx);
             let results: Vec<Checking> = todo
                 .par_iter()
                 .map(|a| {
@@ -520,7 +628,9 @@ pub fn read_and_check(
                         if fail_on.as_deref() == Some(a.id.as_str()) {
                             panic!("deliberate failure (PLUMBLINE_DEBUG_PANIC_ON_ID)");
                         }
-                        check_answer(ctx, a)
+                        let mut c = check_answer(ctx, a);
+                        add_pages(ctx.store, &mut c);
+                        c
                     }));
                     match checked {
                         Ok(c) => Checking::Done(Box::new(c)),
@@ -640,7 +750,7 @@ pub fn assemble(
     Ok(Report {
         tool: Tool::default(),
         generated_at: utc_now(),
-        command: inputs.command.clone(),
+        command: source::redact_args(&inputs.command),
         shard: inputs.shard.map(|s| ShardRecord {
             k: s.k,
             n: s.n,
@@ -653,21 +763,8 @@ pub fn assemble(
             principals: opt_record(&inputs.principals)?,
             config: opt_record(&inputs.config)?,
             accept: opt_record(&inputs.accept)?,
-            store: StoreRecord {
-                path: inputs.store.display().to_string(),
-                documents: loaded.store.documents.len(),
-                digest: loaded.store.digest.clone(),
-                problems: loaded
-                    .store
-                    .problems
-                    .iter()
-                    .map(|p| StoreProblemRecord {
-                        path: p.path.clone(),
-                        field: p.field.clone(),
-                        message: p.message.clone(),
-                    })
-                    .collect(),
-            },
+            store: store_record(loaded)?,
+            input_map: loaded.input_map.clone(),
         },
         config: serde_json::to_value(&loaded.config)?,
         summary: record.summary,
@@ -694,8 +791,18 @@ pub fn assemble(
 /// first. Every output is staged and committed only once all of them are complete; an
 /// interrupted run ([`interrupt`]) writes none and returns [`Outcome::Interrupted`].
 pub fn check(inputs: &RunInputs, outputs: &Outputs, verbosity: Verbosity) -> Result<Outcome> {
+    check_with(inputs, &Extras::default(), outputs, verbosity)
+}
+
+/// [`check`] with the inputs beyond SPEC.md's.
+pub fn check_with(
+    inputs: &RunInputs,
+    extras: &Extras,
+    outputs: &Outputs,
+    verbosity: Verbosity,
+) -> Result<Outcome> {
     let started = Instant::now();
-    let loaded = load(inputs)?;
+    let loaded = load_with(inputs, extras)?;
     let ctx = loaded.context(inputs.redact_restricted);
     let mut spooled = Spooled::new().context("creating a temporary file for findings")?;
     let Some(record) = read_and_check(inputs, &ctx, &loaded, verbosity, &mut spooled)? else {
@@ -740,6 +847,82 @@ pub fn check_answers(
         .ok_or_else(|| anyhow::anyhow!("interrupted"))?;
     let used = record.used.clone();
     Ok((assemble(inputs, loaded, record, sink.answers, sink.rejected)?, used))
+}
+
+/// The store as the run record shows it.
+fn store_record(loaded: &Loaded) -> Result<StoreRecord> {
+    let problem = |p: &crate::store::StoreProblem| StoreProblemRecord {
+        path: p.path.clone(),
+        field: p.field.clone(),
+        message: p.message.clone(),
+    };
+    let store = &loaded.store;
+    let mut record = StoreRecord {
+        path: loaded.store_label.clone(),
+        documents: store.documents.len(),
+        digest: store.digest.clone(),
+        problems: store.problems.iter().map(problem).collect(),
+        form: (store.form != StoreForm::Folder).then(|| store.form.as_str().to_owned()),
+        ..StoreRecord::default()
+    };
+    if let Some(cache) = &loaded.cache {
+        record.index = Some(SavedIndexRecord {
+            path: cache.path.clone(),
+            size: cache.size,
+            saved_at: cache.header.saved_at.clone(),
+            fingerprint: cache.header.fingerprint.clone(),
+        });
+        record.notes.push(format!(
+            "read from the saved index {}, checked against the store (fingerprint {})",
+            cache.path, cache.header.fingerprint
+        ));
+    }
+    if let Some(lazy) = &loaded.lazy {
+        let lazy = lazy.lock().map_err(|_| anyhow::anyhow!("store reader failed"))?;
+        let (n, digest) = lazy.fetched_digest();
+        record.documents = n;
+        record.digest = digest;
+        record.problems = lazy.problems().iter().map(problem).collect();
+        record.read = Some("lazy".into());
+        record.searched = Some(false);
+        let why = match lazy.mode {
+            StoreMode::Lazy => "store.mode = \"lazy\"".to_owned(),
+            _ => format!(
+                "the query returns more than store.full_max_rows = {} rows",
+                loaded.config.store.full_max_rows
+            ),
+        };
+        record.notes.push(format!(
+            "read lazily ({why}): only the {n} cited documents were fetched, and the digest covers only them"
+        ));
+        record.notes.push(
+            "the store-wide search did not run: no sentence could be found misattributed or a restricted_match; check with the whole store (store.mode = \"full\") to look for them".into(),
+        );
+    }
+    Ok(record)
+}
+
+/// Adds the page to every piece of evidence from a PDF.
+fn add_pages(store: &Store, checked: &mut Checked) {
+    if !store.documents.iter().any(|d| !d.pages.is_empty()) {
+        return;
+    }
+    for s in &mut checked.findings.sentences {
+        let all = s
+            .evidence
+            .iter_mut()
+            .chain(s.also_evidence.iter_mut())
+            .chain(s.cited_evidence.iter_mut());
+        for e in all {
+            let Ok(d) = store.resolve(&e.doc) else { continue };
+            if d.pages.is_empty() {
+                continue;
+            }
+            e.page = d.page_of(e.start);
+            let last = d.page_of(e.end.saturating_sub(1).max(e.start));
+            e.page_end = last.filter(|l| Some(*l) != e.page);
+        }
+    }
 }
 
 fn count_lines(path: &Path) -> io::Result<u64> {
@@ -918,6 +1101,9 @@ pub fn print_summary(
             report.decisions.applied,
             report.decisions.stale.len()
         );
+    }
+    for note in &report.inputs.store.notes {
+        let _ = writeln!(err, "  store: {note}");
     }
     if !report.inputs.store.problems.is_empty() {
         let _ = writeln!(

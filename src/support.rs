@@ -40,8 +40,8 @@
 //!   for another, or a one-for-one swap of content words that are neither the same stem,
 //!   nor fuzzy variants, nor listed synonyms, makes the claim at best `partial`.
 //! * Clauses: a run of three or more consecutive content words the window lacks (a
-//!   quarter of the claim) makes a `supported` score `partial`; a run of four or more it
-//!   carries (a third of the claim) makes an `unsupported` score `partial`.
+//!   quarter of the claim) makes a `supported` score `partial`. No rule moves a verdict
+//!   up: a `partial` sentence always scores at least `thresholds.partial`.
 //! * `no_claim`: a sentence with no content words, a greeting, thanks or offer of help, a
 //!   bare answer word, a question, a short lead-in to a list, or a Markdown heading has
 //!   nothing to check.
@@ -1752,8 +1752,6 @@ pub struct Assessment {
 
 /// Unmatched consecutive content words that make a supported-scoring claim partial.
 const JOINED_RUN: usize = 3;
-/// Matched consecutive content words that make an unsupported-scoring claim partial.
-const CARRIED_RUN: usize = 4;
 /// Share of the claim's words a window must carry for its figures to be compared.
 const RELEVANT_WORDS: f64 = 0.5;
 
@@ -1804,12 +1802,6 @@ pub fn assess(claim: &Claim, best: Option<&WindowMatch>, p: &Params) -> Assessme
             || (m.unmatched_run >= JOINED_RUN && m.unmatched_run * 4 >= content))
     {
         // A clause of its own that the window does not carry, joined to one it does.
-        verdict = Verdict::Partial;
-    } else if verdict == Verdict::Unsupported
-        && m.matched_run >= CARRIED_RUN
-        && m.matched_run * 3 >= content
-    {
-        // A clause the window carries word for word, joined to one it does not.
         verdict = Verdict::Partial;
     }
     Assessment { verdict, score: m.score, number_mismatch, negation_mismatch, changed_term }

@@ -19,7 +19,8 @@
 //!   takes its 1-based position in `citations` as its ref, which is what numbered markers
 //!   `[1]`, `[2]` conventionally mean; if that collides with another citation's explicit
 //!   ref the line is rejected as a duplicate ref.
-//! * A locator is `start` and `end` together, or `chunk`, or neither (the whole document);
+//! * A locator is `start` and `end` together, or `chunk`, or `page` (a 1-based page of a
+//!   PDF document; an addition to SPEC.md, see README), or neither (the whole document);
 //!   `start > end` is accepted here and left to the citation checks to report as
 //!   `bad_locator`, since it needs no other input to judge and rejecting the whole answer
 //!   would hide its other findings.
@@ -30,6 +31,7 @@
 //! * A byte order mark is accepted at the start of the file only; on a later line it
 //!   means files were concatenated, and the line is rejected saying so.
 //! * Unknown fields are ignored.
+//! * Records of another shape are read through a field map ([`mapping`]).
 
 use std::collections::HashMap;
 use std::fmt;
@@ -43,6 +45,7 @@ use crate::config::Limits;
 
 mod json;
 pub(crate) mod lines;
+pub mod mapping;
 pub mod markers;
 
 pub(crate) use json::{
@@ -102,6 +105,8 @@ pub enum Locator {
     },
     /// A chunk id from the store's manifest.
     Chunk(String),
+    /// A 1-based page of a PDF document (`page`). Not checked against the document here.
+    Page(u64),
 }
 
 /// An input line that could not be read as a record.
@@ -217,6 +222,7 @@ pub struct AnswerReader<R> {
     seen: HashMap<String, usize>,
     non_blank: usize,
     io_error: Option<io::Error>,
+    map: Option<std::sync::Arc<mapping::FieldMap>>,
 }
 
 impl<R: BufRead> AnswerReader<R> {
@@ -234,7 +240,14 @@ impl<R: BufRead> AnswerReader<R> {
             seen: HashMap::new(),
             non_blank: 0,
             io_error: None,
+            map: None,
         }
+    }
+
+    /// Reads records through a field map ([`mapping`]); an empty map changes nothing.
+    pub fn with_map(mut self, map: std::sync::Arc<mapping::FieldMap>) -> Self {
+        self.map = if map.is_empty() { None } else { Some(map) };
+        self
     }
 
     /// Non-blank lines read so far; equals answers yielded plus lines rejected.
@@ -266,7 +279,11 @@ impl<R: BufRead> AnswerReader<R> {
             )));
         }
         let text = decode_line(&self.buf).map_err(reject)?;
-        let answer = parse_answer(text, line, &self.limits).map_err(reject)?;
+        let answer = match &self.map {
+            None => parse_answer(text, line, &self.limits),
+            Some(map) => parse_mapped(text, line, &self.limits, map),
+        }
+        .map_err(reject)?;
         if let Some(&first) = self.seen.get(&answer.id) {
             return Err(reject(format!(
                 "id: duplicate id {}, first used on line {first}",
@@ -319,6 +336,23 @@ pub fn parse_answer(text: &str, line: usize, limits: &ReaderLimits) -> Result<An
         format!("invalid JSON at column {column}: {message}")
     })?;
     answer_from_value(&value, line, limits).map_err(|e| e.to_string())
+}
+
+/// [`parse_answer`] for a record of another shape, read through `map`; every message
+/// names the pointer its field was read from.
+pub fn parse_mapped(
+    text: &str,
+    line: usize,
+    limits: &ReaderLimits,
+    map: &mapping::FieldMap,
+) -> Result<Answer, String> {
+    let value = parse_strict(text).map_err(|e| {
+        let (message, column) = syntax_message(&e);
+        format!("invalid JSON at column {column}: {message}")
+    })?;
+    let rebuilt = map.apply(&value).map_err(|e| e.to_string())?;
+    answer_from_value(&rebuilt, line, limits)
+        .map_err(|e| FieldError::new(map.describe(&e.path), e.message).to_string())
 }
 
 fn answer_from_value(
@@ -395,6 +429,21 @@ fn read_citation(
     let start = fields.opt_u64("start")?;
     let end = fields.opt_u64("end")?;
     let chunk = fields.opt_id("chunk", max_id)?;
+    if let Some(page) = fields.opt_u64("page")? {
+        if start.is_some() || end.is_some() || chunk.is_some() {
+            return Err(FieldError::new(path, "give one locator: page, start/end or chunk"));
+        }
+        if page == 0 {
+            return Err(FieldError::new(fields.path("page"), "pages count from 1, found 0"));
+        }
+        return Ok(Citation {
+            r#ref,
+            doc,
+            locator: Locator::Page(page),
+            quote: fields.opt_string("quote")?,
+            sha256: fields.opt_string("sha256")?,
+        });
+    }
     let locator = match (start, end, chunk) {
         (Some(_), Some(_), Some(_)) | (Some(_), None, Some(_)) | (None, Some(_), Some(_)) => {
             return Err(FieldError::new(path, "give either start/end or chunk, not both"));

@@ -14,8 +14,10 @@ use crate::run::{self, Outputs, RunInputs, Shard, Verbosity};
 /// Arguments of `plumbline check`.
 #[derive(Debug, Args)]
 pub struct CheckArgs {
-    /// The document store: a directory of .txt, .md and .html files (optional manifest.json).
-    #[arg(long, value_name = "DIR")]
+    /// The document store: a directory of .txt, .md, .html and .pdf files (optional
+    /// manifest.json), a chunk export (FILE.jsonl or chunks:FILE), a SQLite file
+    /// (sqlite:FILE) or a PostgreSQL database (postgres://…).
+    #[arg(long, value_name = "STORE")]
     pub store: PathBuf,
     /// The answers log (JSON Lines); `-` reads stdin.
     #[arg(long, value_name = "FILE")]
@@ -55,6 +57,18 @@ pub struct CheckArgs {
     /// Show a progress bar even when stderr is not a terminal.
     #[arg(long)]
     pub progress: bool,
+    /// TOML file with an `[input]` table of JSON Pointers: where the answer fields lie in
+    /// records of another shape (over the config's `[input]`, key by key).
+    #[arg(long, value_name = "FILE")]
+    pub input_map: Option<PathBuf>,
+    /// A saved index (`plumbline index`) to use instead of reading and indexing the store;
+    /// refused when the store changed since it was saved.
+    #[arg(long, value_name = "FILE")]
+    pub index: Option<PathBuf>,
+    /// How to read a database store: auto (whole up to store.full_max_rows rows), full,
+    /// or lazy (only the cited rows; no store-wide search).
+    #[arg(long, value_name = "MODE")]
+    pub store_mode: Option<crate::config::StoreMode>,
 }
 
 /// Runs `plumbline check`.
@@ -82,5 +96,17 @@ pub fn execute(args: &CheckArgs) -> Result<Outcome> {
     } else {
         Verbosity::Normal
     };
-    run::check(&inputs, &outputs, verbosity)
+    let extras = run::Extras {
+        input_map: args.input_map.clone(),
+        index: args.index.clone(),
+        store_mode: args.store_mode,
+    };
+    if args.index.is_some() && args.store_mode == Some(crate::config::StoreMode::Lazy) {
+        return Err(super::UsageError(
+            "--index and --store-mode lazy do not go together: a saved index holds the whole store"
+                .into(),
+        )
+        .into());
+    }
+    run::check_with(&inputs, &extras, &outputs, verbosity)
 }

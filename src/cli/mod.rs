@@ -11,6 +11,8 @@ use clap::{Parser, Subcommand};
 pub mod check;
 pub mod compare;
 pub mod demo;
+pub mod export;
+pub mod index;
 pub mod merge;
 pub mod score;
 pub mod sentences;
@@ -57,6 +59,10 @@ enum Command {
     Compare(compare::CompareArgs),
     /// Join the findings of shards (check --shard K/N) into one run.
     Merge(merge::MergeArgs),
+    /// Read a store whole and save it with its search index, for `check --index`.
+    Index(index::IndexArgs),
+    /// Write a store's documents as a chunk export or a SQLite file.
+    Export(export::ExportArgs),
 }
 
 /// Runs the command line and returns the process exit code.
@@ -85,6 +91,8 @@ pub fn main() -> ExitCode {
         Command::Sentences(args) => sentences::execute(&args),
         Command::Compare(args) => compare::execute(&args),
         Command::Merge(args) => merge::execute(&args),
+        Command::Index(args) => index::execute(&args),
+        Command::Export(args) => export::execute(&args),
     });
     match result {
         Ok(Ok(Outcome::Pass)) => ExitCode::SUCCESS,

@@ -55,6 +55,8 @@ use std::fmt;
 use std::ops::Range;
 use std::path::Path;
 
+use serde::{Deserialize, Serialize};
+
 /// The default bound on tracked HTML nesting depth.
 pub const DEFAULT_MAX_HTML_DEPTH: usize = 512;
 
@@ -62,7 +64,8 @@ pub const DEFAULT_MAX_HTML_DEPTH: usize = 512;
 pub const MAX_EXTRACT_BYTES: usize = 1 << 30;
 
 /// A document's format, chosen by its file extension.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash, PartialOrd, Ord, Serialize, Deserialize)]
+#[serde(rename_all = "lowercase")]
 pub enum Format {
     /// Plain text (`.txt`): the file is its visible text.
     Text,
@@ -70,6 +73,10 @@ pub enum Format {
     Markdown,
     /// HTML (`.html`, `.htm`).
     Html,
+    /// PDF (`.pdf`): the text layer, extracted page by page ([`crate::store::pdf`]). The
+    /// document's text is that extracted text, so it is its own visible text, as for
+    /// [`Format::Text`], and offsets count its bytes.
+    Pdf,
 }
 
 impl Format {
@@ -87,17 +94,31 @@ impl Format {
             Some(Format::Markdown)
         } else if ext.eq_ignore_ascii_case("html") || ext.eq_ignore_ascii_case("htm") {
             Some(Format::Html)
+        } else if ext.eq_ignore_ascii_case("pdf") {
+            Some(Format::Pdf)
         } else {
             None
         }
     }
 
-    /// A lower-case name: `text`, `markdown` or `html`.
+    /// A lower-case name: `text`, `markdown`, `html` or `pdf`.
     pub fn as_str(self) -> &'static str {
         match self {
             Format::Text => "text",
             Format::Markdown => "markdown",
             Format::Html => "html",
+            Format::Pdf => "pdf",
+        }
+    }
+
+    /// The format a lower-case name of [`Format::as_str`] names (for the `format` field of
+    /// chunk exports and database rows; `pdf` is not one, since a row holds text).
+    pub fn from_name(name: &str) -> Option<Format> {
+        match name {
+            "text" => Some(Format::Text),
+            "markdown" => Some(Format::Markdown),
+            "html" => Some(Format::Html),
+            _ => None,
         }
     }
 }
@@ -122,7 +143,7 @@ impl Default for ExtractOptions {
 }
 
 /// A document's visible text and its map back to the file.
-#[derive(Clone, Debug, Default, PartialEq, Eq)]
+#[derive(Clone, Debug, Default, PartialEq, Eq, Serialize, Deserialize)]
 pub struct Extracted {
     /// The visible text. Empty when [`OffsetMap::is_verbatim`]: the visible text is then the
     /// file text itself (see [`Extracted::visible`]), kept once, not twice.
@@ -164,7 +185,7 @@ pub fn extract_with(format: Format, raw: &str, options: &ExtractOptions) -> Extr
     let bom = if raw.starts_with('\u{feff}') { 3 } else { 0 };
     let used = floor_char_boundary(raw, MAX_EXTRACT_BYTES);
     match format {
-        Format::Text => Extracted {
+        Format::Text | Format::Pdf => Extracted {
             text: String::new(),
             map: OffsetMap { repr: Repr::Shift { offset: bom, len: used - bom } },
         },
@@ -177,12 +198,12 @@ pub fn extract_with(format: Format, raw: &str, options: &ExtractOptions) -> Extr
 ///
 /// All lookups clamp out-of-range arguments and are monotone: a later visible position
 /// never maps to an earlier file position, and vice versa.
-#[derive(Clone, Debug, PartialEq, Eq)]
+#[derive(Clone, Debug, PartialEq, Eq, Serialize, Deserialize)]
 pub struct OffsetMap {
     repr: Repr,
 }
 
-#[derive(Clone, Debug, PartialEq, Eq)]
+#[derive(Clone, Debug, PartialEq, Eq, Serialize, Deserialize)]
 enum Repr {
     /// Visible byte `v` is file byte `offset + v`; the visible text is `raw[offset..offset + len]`.
     Shift { offset: usize, len: usize },
@@ -191,7 +212,7 @@ enum Repr {
 }
 
 /// One segment: visible bytes `vis..next.vis` come from file bytes `file..file + flen`.
-#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Serialize, Deserialize)]
 pub(crate) struct Seg {
     vis: u32,
     file: u32,

@@ -19,6 +19,7 @@
 use std::ops::Range;
 
 use rayon::prelude::*;
+use serde::{Deserialize, Serialize};
 
 use crate::text::numbers::Figure;
 use crate::text::sentences::split;
@@ -56,17 +57,21 @@ pub struct Hit {
 }
 
 /// The sentences of one document with their token ids.
-#[derive(Debug, Default, Clone)]
+#[derive(Debug, Default, Clone, Serialize, Deserialize)]
 pub struct DocSentences {
     /// Byte ranges (visible text) of the sentences.
     pub ranges: Vec<Range<usize>>,
     /// Token ids of all sentences, concatenated.
+    #[serde(with = "super::cache::raw::u32s")]
     ids: Vec<u32>,
     /// Sentence `i` owns `ids[bounds[i]..bounds[i + 1]]`.
+    #[serde(with = "super::cache::raw::u32s")]
     bounds: Vec<u32>,
     /// Figures of all sentences, concatenated.
+    #[serde(with = "super::cache::raw::figures")]
     figures: Vec<Figure>,
     /// Sentence `i` owns `figures[figure_bounds[i]..figure_bounds[i + 1]]`.
+    #[serde(with = "super::cache::raw::u32s")]
     figure_bounds: Vec<u32>,
 }
 
@@ -95,13 +100,15 @@ impl DocSentences {
 }
 
 /// Sentences of every document and the inverted index over them.
-#[derive(Debug, Default)]
+#[derive(Debug, Default, Serialize, Deserialize)]
 pub struct Index {
     /// Per document, its sentences.
     pub docs: Vec<DocSentences>,
     /// Global sentence id → (document, sentence).
+    #[serde(with = "super::cache::raw::pairs")]
     owners: Vec<(u32, u32)>,
     /// Term → sorted global sentence ids.
+    #[serde(with = "super::cache::raw::postings")]
     postings: IdMap<u32, Vec<u32>>,
 }
 

@@ -28,6 +28,15 @@
 //! percent-encoded traversal, URLs, over-long ids) is `dead` with its reason, before any
 //! lookup.
 //!
+//! # Other forms
+//!
+//! The same [`Store`] is also loaded from a chunk export ([`chunks`], one JSON object a
+//! line), a SQLite file or a PostgreSQL table ([`sql`]), or a saved index ([`cache`]);
+//! [`source`] decides which from the shape of the `--store` argument. In those forms a
+//! row (a *chunk*) is a document whose text is the row's text; rows that name the same
+//! `doc` form a group, so that a citation may name the group's id with a `chunk`. PDF
+//! files of a folder store are read through [`pdf`].
+//!
 //! # Digests
 //!
 //! Every file's bytes are digested with SHA-256 (lower-case hex); the store digest is the
@@ -43,14 +52,21 @@ use std::panic::{AssertUnwindSafe, catch_unwind};
 use std::path::{Path, PathBuf};
 
 use rayon::prelude::*;
+use serde::{Deserialize, Serialize};
 use sha2::{Digest, Sha256};
 
+pub mod cache;
+pub mod chunks;
 pub mod confine;
 pub mod extract;
 mod html;
 pub mod index;
 pub mod manifest;
 mod markdown;
+pub mod pdf;
+pub mod row;
+pub mod source;
+pub mod sql;
 
 use extract::{ExtractOptions, Extracted, Format};
 
@@ -99,10 +115,18 @@ pub enum StoreError {
     /// The manifest exists but is not valid JSON of the right shape.
     #[error("{0}")]
     Manifest(#[from] manifest::ManifestError),
+    /// A saved index that cannot be used (`check --index`).
+    #[error("saved index {path}: {message}")]
+    SavedIndex {
+        /// The file.
+        path: PathBuf,
+        /// Why it cannot be used.
+        message: String,
+    },
 }
 
 /// A named byte range of a document.
-#[derive(Debug, Clone, PartialEq, Eq)]
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
 pub struct Chunk {
     /// Chunk id.
     pub id: String,
@@ -113,7 +137,7 @@ pub struct Chunk {
 }
 
 /// Something skipped while loading, and why.
-#[derive(Debug, Clone, PartialEq, Eq)]
+#[derive(Debug, Clone, PartialEq, Eq, Serialize, Deserialize)]
 pub struct StoreProblem {
     /// The file or manifest entry concerned (relative to the root).
     pub path: String,
@@ -124,7 +148,7 @@ pub struct StoreProblem {
 }
 
 /// One document of the store.
-#[derive(Debug, Clone)]
+#[derive(Debug, Clone, Serialize, Deserialize)]
 pub struct Document {
     /// Its id.
     pub id: String,
@@ -142,6 +166,11 @@ pub struct Document {
     pub sha256: String,
     /// File size in bytes.
     pub size: u64,
+    /// For a PDF, the byte range of each page in [`Document::raw`] (page `i + 1` at `i`;
+    /// empty for a page without text); empty for other documents.
+    pub pages: Vec<Range<usize>>,
+    /// For a chunk of a chunk export or database, the id of the document it was cut from.
+    pub group: Option<String>,
     raw: String,
     visible: Extracted,
 }
@@ -167,6 +196,32 @@ impl Document {
         self.visible.map.to_file_range(visible)
     }
 
+    /// A document made from text held in a row (a chunk export or database): `id` is also
+    /// its path, `sha256` and `size` are those of the text's UTF-8 bytes.
+    pub fn from_text(id: String, text: String, format: Format, options: &ExtractOptions) -> Self {
+        let sha256 = hex(&Sha256::digest(text.as_bytes()));
+        let visible = extract::extract_with(format, &text, options);
+        Document {
+            path: id.clone(),
+            id,
+            format,
+            title: None,
+            access: None,
+            chunks: Vec::new(),
+            sha256,
+            size: text.len() as u64,
+            pages: Vec::new(),
+            group: None,
+            raw: text,
+            visible,
+        }
+    }
+
+    /// The 1-based page holding file byte `offset`, for a PDF.
+    pub fn page_of(&self, offset: usize) -> Option<u32> {
+        pdf::page_of(&self.pages, offset)
+    }
+
     /// The access that applies: the document's own, else the store's default.
     pub fn effective_access<'a>(&'a self, default: Option<&'a [String]>) -> Option<&'a [String]> {
         self.access.as_deref().or(default)
@@ -187,6 +242,8 @@ pub enum DeadReason {
     /// The file at this path was seen but not read (a link, a file with several hard
     /// links, too large, not UTF-8); the reason the store gave.
     Skipped(String),
+    /// The document exists but could not be read (a PDF without a text layer, say).
+    Unreadable(String),
 }
 
 impl fmt::Display for DeadReason {
@@ -199,14 +256,64 @@ impl fmt::Display for DeadReason {
             DeadReason::Empty => f.write_str("the reference is empty"),
             DeadReason::NotFound => f.write_str("no document of the store has this id or path"),
             DeadReason::Skipped(why) => write!(f, "the store skipped this file, which {why}"),
+            DeadReason::Unreadable(why) => {
+                write!(f, "the document is in the store but could not be read: it {why}")
+            }
         }
     }
+}
+
+/// Where a store was read from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+#[serde(rename_all = "lowercase")]
+pub enum StoreForm {
+    /// A directory of files.
+    Folder,
+    /// A chunk export (JSON Lines).
+    Chunks,
+    /// A SQLite database.
+    Sqlite,
+    /// A PostgreSQL database.
+    Postgres,
+}
+
+impl StoreForm {
+    /// `folder`, `chunks`, `sqlite` or `postgres`.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            StoreForm::Folder => "folder",
+            StoreForm::Chunks => "chunks",
+            StoreForm::Sqlite => "sqlite",
+            StoreForm::Postgres => "postgres",
+        }
+    }
+}
+
+/// What a loader hands to [`Store::assemble`].
+#[derive(Debug, Clone)]
+pub struct Parts {
+    /// Where it came from.
+    pub form: StoreForm,
+    /// The root directory or file (empty for a database server).
+    pub root: PathBuf,
+    /// The documents, in any order.
+    pub documents: Vec<Document>,
+    /// The store's default access.
+    pub default_access: Option<Vec<String>>,
+    /// What was skipped.
+    pub problems: Vec<StoreProblem>,
+    /// Documents that exist but could not be read, by id and path, with the reason.
+    pub unreadable: Vec<(String, String)>,
+    /// Longest reference accepted.
+    pub max_id_bytes: usize,
 }
 
 /// The loaded store.
 #[derive(Debug, Clone)]
 pub struct Store {
-    /// The root directory.
+    /// Where it was read from.
+    pub form: StoreForm,
+    /// The root directory (the file, for a chunk export or SQLite; empty for PostgreSQL).
     pub root: PathBuf,
     /// Documents, sorted by id.
     pub documents: Vec<Document>,
@@ -216,7 +323,14 @@ pub struct Store {
     pub problems: Vec<StoreProblem>,
     /// SHA-256 over the sorted `id \0 sha256 \n` lines.
     pub digest: String,
+    /// Whether the whole store is here, so that the store-wide search can run. False for a
+    /// database read lazily ([`sql`]), which holds only the documents the answers cite.
+    pub searchable: bool,
     by_key: HashMap<String, usize>,
+    /// Chunk groups: a `doc` id of rows to the positions of its chunks, in id order.
+    groups: HashMap<String, Vec<usize>>,
+    /// Documents that could not be read, by id and path, with the reason.
+    unreadable: HashMap<String, String>,
     max_id_bytes: usize,
 }
 
@@ -288,13 +402,25 @@ impl Store {
 
         // Read, digest and extract in parallel; results keep the walk's order.
         let options = ExtractOptions { max_html_depth: limits.max_html_depth };
-        let read: Vec<Result<Document, StoreProblem>> =
+        let read: Vec<Result<(Document, Vec<StoreProblem>), Skipped>> =
             found.par_iter().map(|f| read_document(f, limits, &options)).collect();
         let mut documents = Vec::new();
+        // Files that exist but cannot be read as documents, by path: a citation of one is
+        // dead with the reason. Only PDFs are listed, so that the messages for other files
+        // stay as they were.
+        let mut unreadable: Vec<(String, String)> = Vec::new();
         for r in read {
             match r {
-                Ok(d) => documents.push(d),
-                Err(p) => problems.push(p),
+                Ok((d, notes)) => {
+                    documents.push(d);
+                    problems.extend(notes);
+                }
+                Err(Skipped { problem, unreadable: why }) => {
+                    if let Some(why) = why {
+                        unreadable.push((problem.path.clone(), why));
+                    }
+                    problems.push(problem);
+                }
             }
         }
 
@@ -320,6 +446,12 @@ impl Store {
             let mut claimed: HashMap<String, usize> = HashMap::new();
             for e in m.entries {
                 let Some(&i) = by_path.get(&e.path) else {
+                    if let (Some(id), Some(why)) = (
+                        &e.id,
+                        unreadable.iter().find(|(p, _)| *p == e.path).map(|(_, w)| w.clone()),
+                    ) {
+                        unreadable.push((id.clone(), why));
+                    }
                     problems.push(StoreProblem {
                         path: format!("manifest.json: documents[{}]", e.index),
                         field: Some("path".into()),
@@ -349,6 +481,29 @@ impl Store {
             }
         }
 
+        Ok(Store::assemble(Parts {
+            form: StoreForm::Folder,
+            root: root.to_path_buf(),
+            documents,
+            default_access,
+            problems,
+            unreadable,
+            max_id_bytes: limits.max_id_bytes,
+        }))
+    }
+
+    /// Builds a store from loaded documents: sorts them by id, skips (and reports) a
+    /// repeated id, indexes ids, paths and chunk groups, and computes the digest.
+    pub fn assemble(parts: Parts) -> Store {
+        let Parts {
+            form,
+            root,
+            mut documents,
+            default_access,
+            mut problems,
+            unreadable,
+            max_id_bytes,
+        } = parts;
         documents.sort_by(|a, b| a.id.cmp(&b.id));
         // Ids must be unique: a manifest id may collide with another file's path.
         let mut by_key = HashMap::new();
@@ -368,6 +523,12 @@ impl Store {
         for (i, d) in keep.iter().enumerate() {
             by_key.entry(d.path.clone()).or_insert(i);
         }
+        let mut groups: HashMap<String, Vec<usize>> = HashMap::new();
+        for (i, d) in keep.iter().enumerate() {
+            if let Some(g) = &d.group {
+                groups.entry(g.clone()).or_default().push(i);
+            }
+        }
         let mut h = Sha256::new();
         for d in &keep {
             h.update(d.id.as_bytes());
@@ -375,16 +536,34 @@ impl Store {
             h.update(d.sha256.as_bytes());
             h.update(b"\n");
         }
-        problems.sort_by(|a, b| a.path.cmp(&b.path));
-        Ok(Store {
-            root: root.to_path_buf(),
+        problems.sort_by(|a, b| problem_order(&a.path).cmp(&problem_order(&b.path)));
+        Store {
+            form,
+            root,
             documents: keep,
             default_access,
             problems,
             digest: hex(&h.finalize()),
+            searchable: true,
             by_key,
-            max_id_bytes: limits.max_id_bytes,
-        })
+            groups,
+            unreadable: unreadable.into_iter().collect(),
+            max_id_bytes,
+        }
+    }
+
+    /// The documents that could not be read, by id or path, with the reason, sorted.
+    pub fn unreadable_list(&self) -> Vec<(String, String)> {
+        let mut v: Vec<(String, String)> =
+            self.unreadable.iter().map(|(k, v)| (k.clone(), v.clone())).collect();
+        v.sort();
+        v
+    }
+
+    /// The chunks of the group `doc` (rows of a chunk export or database that name it as
+    /// their `doc`), as store positions in id order; `None` when no row names it.
+    pub fn group(&self, doc: &str) -> Option<&[usize]> {
+        self.groups.get(doc).map(Vec::as_slice)
     }
 
     /// Looks a citation's `doc` up by id, or by relative path as an alias; in memory only.
@@ -398,6 +577,9 @@ impl Store {
         confine::check(reference).map_err(DeadReason::Escapes)?;
         let key = reference.strip_prefix("./").unwrap_or(reference);
         let Some(&i) = self.by_key.get(key) else {
+            if let Some(why) = self.unreadable.get(key) {
+                return Err(DeadReason::Unreadable(why.clone()));
+            }
             let skipped = self.problems.iter().find(|p| p.field.is_none() && p.path == key);
             return Err(
                 skipped.map_or(DeadReason::NotFound, |p| DeadReason::Skipped(p.message.clone()))
@@ -417,6 +599,17 @@ impl Store {
     }
 }
 
+/// Problems are listed by path, a trailing `:LINE` (chunk exports) counted as a number so
+/// that line 10 comes after line 9.
+fn problem_order(path: &str) -> (&str, u64, &str) {
+    match path.rsplit_once(':') {
+        Some((head, n)) if !n.is_empty() && n.bytes().all(|b| b.is_ascii_digit()) => {
+            (head, n.parse().unwrap_or(u64::MAX), "")
+        }
+        _ => (path, 0, path),
+    }
+}
+
 fn rel_path(root: &Path, p: &Path) -> String {
     let rel = p.strip_prefix(root).unwrap_or(p);
     rel.components()
@@ -425,12 +618,22 @@ fn rel_path(root: &Path, p: &Path) -> String {
         .join("/")
 }
 
+/// A file the walk found but did not read.
+struct Skipped {
+    problem: StoreProblem,
+    /// Why, when the file is a document that exists but cannot be read (a PDF).
+    unreadable: Option<String>,
+}
+
 fn read_document(
     f: &Found,
     limits: &StoreLimits,
     options: &ExtractOptions,
-) -> Result<Document, StoreProblem> {
-    let problem = |message: String| StoreProblem { path: f.rel.clone(), field: None, message };
+) -> Result<(Document, Vec<StoreProblem>), Skipped> {
+    let problem = |message: String| Skipped {
+        problem: StoreProblem { path: f.rel.clone(), field: None, message },
+        unreadable: None,
+    };
     // Opened without following a link in the last component, and checked on the open
     // handle: a file swapped for a link, or linked again, after the walk saw it is still
     // never read through the link.
@@ -475,26 +678,57 @@ fn read_document(
     }
     let sha256 = hex(&Sha256::digest(&bytes));
     let size = bytes.len() as u64;
-    let raw = String::from_utf8(bytes).map_err(|e| {
-        problem(format!(
-            "is not UTF-8 (invalid byte at offset {}); not read",
-            e.utf8_error().valid_up_to()
-        ))
-    })?;
+    let mut notes = Vec::new();
     // Extraction runs behind a panic boundary, like the check of an answer: a defect the
     // document's markup triggers costs that document, not the run.
-    let visible = catch_unwind(AssertUnwindSafe(|| extract::extract_with(f.format, &raw, options)))
-        .map_err(|p| {
-            let cause = p
-                .downcast_ref::<&str>()
-                .map(|s| (*s).to_owned())
-                .or_else(|| p.downcast_ref::<String>().cloned())
-                .unwrap_or_else(|| "unknown cause".into());
-            problem(format!(
-                "internal error while extracting its text (a defect of plumbline): {cause}; not read"
-            ))
-        })?;
-    Ok(Document {
+    let extracted = catch_unwind(AssertUnwindSafe(|| {
+        let (raw, pages) = if f.format == Format::Pdf {
+            match pdf::extract(&bytes) {
+                Ok(t) => {
+                    for n in &t.empty_pages {
+                        notes.push(StoreProblem {
+                            path: f.rel.clone(),
+                            field: Some(format!("page {n}")),
+                            message: "has no text layer (an image); its text is empty, and a citation of this page is a bad_locator".into(),
+                        });
+                    }
+                    (t.text, t.pages)
+                }
+                Err(e) => {
+                    let why = e.to_string();
+                    return Err(Skipped {
+                        problem: StoreProblem {
+                            path: f.rel.clone(),
+                            field: None,
+                            message: why.clone(),
+                        },
+                        unreadable: Some(why),
+                    });
+                }
+            }
+        } else {
+            let raw = String::from_utf8(bytes).map_err(|e| {
+                problem(format!(
+                    "is not UTF-8 (invalid byte at offset {}); not read",
+                    e.utf8_error().valid_up_to()
+                ))
+            })?;
+            (raw, Vec::new())
+        };
+        let visible = extract::extract_with(f.format, &raw, options);
+        Ok((raw, pages, visible))
+    }));
+    let (raw, pages, visible) = extracted.unwrap_or_else(|p| {
+        let cause = p
+            .downcast_ref::<&str>()
+            .map(|s| (*s).to_owned())
+            .or_else(|| p.downcast_ref::<String>().cloned())
+            .unwrap_or_else(|| "unknown cause".into());
+        Err(problem(format!(
+            "internal error while extracting its text (a defect of plumbline): {cause}; not read"
+        )))
+    })?;
+    let document = Document {
         id: f.rel.clone(),
         path: f.rel.clone(),
         format: f.format,
@@ -503,7 +737,10 @@ fn read_document(
         chunks: Vec::new(),
         sha256,
         size,
+        pages,
+        group: None,
         raw,
         visible,
-    })
+    };
+    Ok((document, notes))
 }

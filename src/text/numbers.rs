@@ -25,10 +25,10 @@ use std::fmt;
 use std::sync::LazyLock;
 
 use regex::Regex;
-use serde::Serialize;
+use serde::{Deserialize, Serialize};
 
 /// What a figure measures.
-#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize, Deserialize)]
 #[serde(rename_all = "snake_case", tag = "kind", content = "currency")]
 pub enum FigureKind {
     /// A plain number (possibly with a unit).
@@ -46,7 +46,7 @@ pub enum FigureKind {
 }
 
 /// One figure found in a text.
-#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize)]
+#[derive(Debug, Clone, PartialEq, Eq, Hash, Serialize, Deserialize)]
 pub struct Figure {
     /// What it measures.
     #[serde(flatten)]

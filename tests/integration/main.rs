@@ -23,4 +23,5 @@ mod report;
 mod report_formats;
 mod score_input;
 mod stemmer;
+mod stores;
 mod uax29;

@@ -354,6 +354,8 @@ fn synthetic_answer(i: usize) -> AnswerFindings {
         score,
         matched: vec![span(0, 6), span(7, 11), span(12, 16), span(21, 23), span(24, 28)],
         access: Some(vec!["all-staff".into()]),
+        page: None,
+        page_end: None,
     };
     let answer = format!(
         "Claims stay open for {} days [1]. After that they close automatically [1]. \
@@ -469,7 +471,9 @@ fn synthetic_report(n: usize) -> Report {
                 documents: 201,
                 digest: "0".repeat(64),
                 problems: Vec::new(),
+                ..StoreRecord::default()
             },
+            input_map: None,
         },
         config: serde_json::to_value(plumbline::config::Config::default()).expect("config"),
         summary,

@@ -297,6 +297,8 @@ pub struct EvidenceView<'a> {
     pub chars: usize,
     pub matched_words: usize,
     pub pieces: Vec<Piece<'a>>,
+    /// `p. 3` or `pp. 3–4` for evidence from a PDF; empty otherwise.
+    pub pages: String,
 }
 
 /// One citation of an answer.
@@ -534,11 +536,15 @@ fn input_rows(report: &Report) -> Vec<InputRow<'_>> {
         size: thousands(i.answers.size),
         sha256: Some(&i.answers.sha256),
     }];
+    let input_map = i.input_map.as_ref().map(|_| ("field map", "--input-map", &i.input_map));
     for (role, option, file) in [
         ("principals", "--principals", &i.principals),
         ("settings", "--config", &i.config),
         ("reviewer decisions", "--accept", &i.accept),
-    ] {
+    ]
+    .into_iter()
+    .chain(input_map)
+    {
         rows.push(match file {
             Some(f) => InputRow {
                 role,
@@ -593,6 +599,14 @@ fn toml_value(v: &serde_json::Value) -> String {
         serde_json::Value::Array(items) => {
             format!("[{}]", items.iter().map(toml_value).collect::<Vec<_>>().join(", "))
         }
+        // A nested table (`[input.citation]`) as a TOML inline table.
+        serde_json::Value::Object(m) => format!(
+            "{{ {} }}",
+            m.iter()
+                .map(|(k, v)| format!("{k} = {}", toml_value(v)))
+                .collect::<Vec<_>>()
+                .join(", ")
+        ),
         other => other.to_string(),
     }
 }
@@ -956,6 +970,11 @@ fn evidence_view(e: &Evidence) -> EvidenceView<'_> {
         chars: e.text.chars().count(),
         matched_words: e.matched.len(),
         pieces,
+        pages: match (e.page, e.page_end) {
+            (Some(a), Some(b)) => format!("pp. {a}–{b}"),
+            (Some(a), None) => format!("p. {a}"),
+            _ => String::new(),
+        },
     }
 }
 
