@@ -78,7 +78,7 @@ pub struct Target {
     pub target: Option<f64>,
 }
 
-/// The targets, in report order (issue 5; `broken_citation` has none: it is reported).
+/// The targets, in report order (`broken_citation` has none: it is reported).
 pub const TARGETS: &[Target] = &[
     Target { key: "verbatim", class: Class::Verbatim, rule: Rule::Supported, target: Some(97.0) },
     Target {
